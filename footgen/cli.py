@@ -1,0 +1,192 @@
+"""Command line: a thin click layer; each command lazily imports the one library call it makes.
+
+Exit codes: 0 success; 1 rule violations (the build or check found fab-rule errors);
+2 bad input (spec, measurement or option); 3 refused to overwrite a hand-edited file;
+4 KiCad missing or failed.
+"""
+
+from __future__ import annotations
+
+import json
+import sys
+from pathlib import Path
+
+import click
+
+from footgen import __version__
+from footgen.errors import FootgenError
+
+EXIT_RULES = 1
+EXIT_INPUT = 2
+
+
+class FootgenGroup(click.Group):
+    """Turns every :class:`FootgenError` into one line on stderr and its exit code."""
+
+    def invoke(self, ctx: click.Context):  # type: ignore[override]
+        try:
+            return super().invoke(ctx)
+        except FootgenError as exc:
+            click.echo(f"footgen: error: {exc}", err=True)
+            ctx.exit(exc.exit_code)
+        except OSError as exc:  # e.g. an output folder that cannot be written
+            where = f"{exc.filename}: " if exc.filename else ""
+            click.echo(f"footgen: error: {where}{exc.strerror or exc}", err=True)
+            ctx.exit(EXIT_INPUT)
+
+
+@click.group(cls=FootgenGroup, context_settings={"help_option_names": ["-h", "--help"]})
+@click.version_option(__version__, prog_name="footgen")
+def main() -> None:
+    """Printed inverted-F antenna footprints for KiCad from a JSON design spec.
+
+    \b
+    Example:
+      footgen new sensor-2g4 -o my_antenna.json
+      footgen build my_antenna.json -o build/
+    """
+
+
+@main.command("new")
+@click.argument("template", required=False)
+@click.option("-o", "--output", "output", type=click.Path(dir_okay=False, path_type=Path), help="Spec file to write.")
+@click.option("--list", "list_", is_flag=True, help="List the starter templates.")
+@click.option("--force", is_flag=True, help="Replace an existing spec file.")
+def new_cmd(template: str | None, output: Path | None, list_: bool, force: bool) -> None:
+    """Start a spec from a starter TEMPLATE.
+
+    \b
+    Example:
+      footgen new --list
+      footgen new ism-915-meander -o tracker.json
+    """
+    from footgen import templates
+
+    if list_ or template is None:
+        for name, summary in templates.list_templates():
+            click.echo(f"{name:24s} {summary}")
+        return
+    if output is None:
+        raise click.UsageError("give -o/--output SPEC.json")
+    templates.write_template(template, output, force=force)
+    click.echo(f"wrote {output}")
+
+
+@main.command("validate")
+@click.argument("spec", type=click.Path(path_type=Path))
+def validate_cmd(spec: Path) -> None:
+    """Check SPEC against the schema and the cross-field rules.
+
+    \b
+    Example:
+      footgen validate examples/soil-probe-2g4.json
+    """
+    from footgen.spec import load_spec
+
+    loaded = load_spec(spec)
+    click.echo(f"{spec}: valid ({loaded.name}, revision {loaded.revision})")
+
+
+@main.command("build")
+@click.argument("spec", type=click.Path(path_type=Path))
+@click.option("-o", "--out", "out_dir", required=True, type=click.Path(file_okay=False, path_type=Path), help="Output folder.")
+@click.option("--force", is_flag=True, help="Replace files even if they were edited by hand.")
+@click.option("--allow-violations", is_flag=True, help="Write the footprint even when the rule check finds errors.")
+def build_cmd(spec: Path, out_dir: Path, force: bool, allow_violations: bool) -> None:
+    """Size, lay out and check SPEC; write OUT/<library>.pretty/<name>.kicad_mod, the report,
+    the rule-check JSON and the copper drawing (SVG, PNG) beside it.
+
+    Exits 1 (and writes no footprint) when the rule check finds errors.
+
+    \b
+    Example:
+      footgen build examples/soil-probe-2g4.json -o build/
+    """
+    from footgen.build import build_spec_file
+
+    result, written = build_spec_file(spec, out_dir, force=force, allow_violations=allow_violations)
+    for path in written:
+        click.echo(f"wrote {path}")
+    for v in result.violations:
+        click.echo(v.line(), err=True)
+    if not result.ok:
+        sys.exit(EXIT_RULES)
+
+
+@main.command("check")
+@click.argument("spec", type=click.Path(path_type=Path))
+@click.option("--json", "as_json", is_flag=True, help="Print the violations as JSON.")
+def check_cmd(spec: Path, as_json: bool) -> None:
+    """Run the fab rule check on SPEC's layout (nothing is written).
+
+    \b
+    Example:
+      footgen check examples/soil-probe-2g4.json --json
+    """
+    from footgen.build import run
+    from footgen.rules import report_dict
+    from footgen.spec import load_spec
+
+    result = run(load_spec(spec))
+    if as_json:
+        click.echo(json.dumps(report_dict(list(result.violations), result.spec.fab), indent=2, sort_keys=True))
+    else:
+        for v in result.violations:
+            click.echo(v.line())
+        click.echo(f"{len(result.violations)} violation(s) against fab profile {result.spec.fab.name!r}")
+    if not result.ok:
+        sys.exit(EXIT_RULES)
+
+
+@main.command("draw")
+@click.argument("spec", type=click.Path(path_type=Path))
+@click.option("-o", "--output", "output", required=True, type=click.Path(dir_okay=False, path_type=Path), help="Drawing to write (.svg or .png).")
+@click.option("--force", is_flag=True, help="Replace a file edited by hand.")
+def draw_cmd(spec: Path, output: Path, force: bool) -> None:
+    """Draw SPEC's copper with its main dimensions as SVG or PNG.
+
+    \b
+    Example:
+      footgen draw examples/soil-probe-2g4.json -o antenna.svg
+    """
+    from footgen.build import run
+    from footgen.draw import render_svg_png
+    from footgen.outputs import write_outputs
+    from footgen.spec import load_spec
+
+    suffix = output.suffix.lower()
+    if suffix not in (".svg", ".png"):
+        raise click.BadParameter(f"{output}: use a .svg or .png file name", param_hint="--output")
+    result = run(load_spec(spec))
+    svg, png = render_svg_png(result.layout, result.spec.name, result.spec.target.label)
+    write_outputs(output.parent, {output.name: svg if suffix == ".svg" else png}, force=force)
+    click.echo(f"wrote {output}")
+
+
+@main.command("testboard")
+@click.argument("spec", type=click.Path(path_type=Path))
+@click.option("-o", "--out", "out_dir", required=True, type=click.Path(file_okay=False, path_type=Path), help="Folder for the KiCad project.")
+@click.option("--drc/--no-drc", default=True, help="Run KiCad's DRC on the board afterwards.")
+@click.option("--allow-violations", is_flag=True, help="Place the footprint even when the rule check finds errors.")
+def testboard_cmd(spec: Path, out_dir: Path, drc: bool, allow_violations: bool) -> None:
+    """Build SPEC's footprint into a small KiCad 9 test board (outline, GND pours on F.Cu and
+    B.Cu, feed track), fill the zones and run KiCad's DRC.  Needs KiCad 9.
+
+    \b
+    Example:
+      footgen testboard examples/soil-probe-2g4.json -o board/
+    """
+    from footgen.kicad.testrun import make_test_board
+
+    report = make_test_board(spec, out_dir, drc=drc, allow_violations=allow_violations)
+    click.echo(f"wrote {report.board_path}")
+    if report.drc is not None:
+        for item in report.drc_errors:
+            click.echo(f"kicad drc: {item}", err=True)
+        click.echo(f"KiCad DRC: {len(report.drc_errors)} error(s), {len(report.drc_warnings)} warning(s)")
+        if report.drc_errors:
+            sys.exit(EXIT_RULES)
+
+
+if __name__ == "__main__":  # pragma: no cover
+    main()

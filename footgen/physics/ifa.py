@@ -1,0 +1,68 @@
+"""The printed IFA reduced to numbers, as every physics model sees it (SI units, no I/O).
+
+Coordinates lie in the board plane.  The ground plane occupies ``y < 0`` with its radiating edge
+on ``y = 0``; the antenna copper lies at ``y > 0`` in the clearance.  The feed leg runs up from the
+ground edge at ``x = feed_x_m``, the short leg at ``x = short_x_m``; both end on the arm, whose
+centreline ``arm_path_m`` starts above the short leg, passes above the feed leg and ends at the
+open end (it may be meandered: any polyline of axis-parallel segments).  The geometry layer builds
+this from a layout; physics never sees millimetres.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+
+@dataclass(frozen=True)
+class Laminate:
+    """Board laminate: relative permittivity, thickness, loss tangent, copper thickness (SI)."""
+
+    eps_r: float
+    thickness_m: float
+    loss_tangent: float = 0.0
+    copper_thickness_m: float = 35e-6
+
+
+@dataclass(frozen=True)
+class GroundPlane:
+    """Rectangular ground plane below the edge ``y = 0``: ``x`` from ``x_min_m`` to ``x_max_m``,
+    ``y`` from ``-length_m`` to 0."""
+
+    x_min_m: float
+    x_max_m: float
+    length_m: float
+
+    @property
+    def width_m(self) -> float:
+        return self.x_max_m - self.x_min_m
+
+
+@dataclass(frozen=True)
+class PrintedIfa:
+    """Centreline model of a printed (meandered) inverted-F antenna on one copper layer."""
+
+    arm_path_m: tuple[tuple[float, float], ...]
+    feed_x_m: float
+    short_x_m: float
+    trace_width_m: float
+    short_width_m: float
+    port_gap_m: float
+    ground: GroundPlane
+    laminate: Laminate
+
+    @property
+    def height_m(self) -> float:
+        """Height of the arm's first vertex (above the short leg) over the ground edge."""
+        return self.arm_path_m[0][1]
+
+    @property
+    def arm_length_m(self) -> float:
+        """Centreline length of the arm from above the short leg to the open end."""
+        total = 0.0
+        for (x0, y0), (x1, y1) in zip(self.arm_path_m, self.arm_path_m[1:]):
+            total += ((x1 - x0) ** 2 + (y1 - y0) ** 2) ** 0.5
+        return total
+
+    @property
+    def feed_short_spacing_m(self) -> float:
+        return abs(self.feed_x_m - self.short_x_m)

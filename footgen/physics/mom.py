@@ -1,0 +1,668 @@
+"""Thin-wire method-of-moments solver (mixed-potential EFIE, triangle basis, Galerkin testing).
+
+Formulation (Harrington, "Field Computation by Moment Methods", 1968, ch. 4; Gibson, "The Method
+of Moments in Electromagnetics", 2nd ed. 2014, ch. 3 and 5):
+
+* Straight segments, one current unknown per triangle ("rooftop") basis function spanning two
+  segments that share a node.  At a node where ``k >= 3`` segments meet, ``k - 1`` basis
+  functions pair a reference segment with each other segment, so every basis function carries
+  a continuous current through the node and Kirchhoff's current law holds exactly.
+* Reduced thin-wire kernel ``G = exp(-jkR) / (4 pi R)``, ``R = sqrt(|r - r'|^2 + a^2)``.
+* ``Z_mn = j w mu0 <f_m, G f_n> + 1/(j w eps0) <div f_m, G div f_n>`` with Galerkin testing.
+* Self and touching segment pairs: the static part ``1/R`` of the inner integral is integrated in
+  closed form (linear weights), the remainder ``(exp(-jkR) - 1)/R`` and the outer integral by
+  Gauss-Legendre quadrature on a cosine-graded mesh.  Close pairs use a product Gauss rule, far
+  pairs the segment-midpoint rule (its first-order error cancels within each triangle).
+* Delta-gap source: applied field ``V / l`` on one segment; ``Zin = V / I(segment centre)``,
+  which equals ``V^2 / (v^T Z^-1 v)`` (variational).
+* Laminate: copper on the top face of a dielectric slab (free-standing, air on both sides).  The
+  vector potential keeps the free-space kernel (non-magnetic slab); the quasi-static part of the
+  scalar-potential kernel ``1/(4 pi eps0 R)`` is replaced by the static potential of a point charge
+  on the slab surface (image series, :func:`slab_static_image_weights`), the dynamic remainder
+  ``(exp(-jkR) - 1)/R`` stays free space.  Loss tangent enters through a complex permittivity.
+* Conductor loss: surface impedance ``(1 + j) Rs / perimeter`` per unit length of trace (Balanis,
+  "Antenna Theory", 4th ed., sec. 2.14, high-frequency resistance of a conductor, from memory).
+* Frequency sweeps: impedance-matrix interpolation after removing the phase ``exp(-jk D_mn)``
+  of the distance between basis centres (Newman, "Matrix interpolation for frequency sweeps",
+  IEEE Trans. Antennas Propag. 36(12), 1988, from memory), quadratic in ``k`` between anchors.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable
+from dataclasses import dataclass, field
+
+import numpy as np
+import scipy.sparse as sp
+
+from footgen.constants import C0_M_PER_S, EPS0_F_PER_M, ETA0_OHM, MU0_H_PER_M
+from footgen.errors import SolverError
+
+NODE_MERGE_TOL_M = 1e-9
+MIN_SEGMENT_TO_RADIUS = 2.0
+NEAR_PAIR_FACTOR = 3.0
+OUTER_POINTS_SINGULAR = 12
+INNER_POINTS_SINGULAR = 6
+POINTS_NEAR = 4
+SLAB_IMAGE_REL_TOL = 1e-6
+SLAB_MAX_IMAGES = 400
+INTERP_PHASE_STEP_RAD = 1.0  # anchor spacing: (k_{i+1} - k_i) * max basis distance
+SOLVE_CHUNK = 16
+COPPER_CONDUCTIVITY_S_PER_M = 5.8e7
+FAR_REAL = np.float32  # far-tier (midpoint rule) precision; near and self terms are float64
+FAR_COMPLEX = np.complex64
+
+
+@dataclass(frozen=True)
+class Slab:
+    """Dielectric slab under the copper: the wires lie in ``z = 0``, the slab fills ``-t < z < 0``."""
+
+    eps_r: float
+    thickness_m: float
+    loss_tangent: float = 0.0
+
+    @property
+    def eps_complex(self) -> complex:
+        return complex(self.eps_r) * (1.0 - 1j * self.loss_tangent)
+
+
+@dataclass(frozen=True)
+class Wire:
+    """Straight wire from ``start_m`` to ``end_m`` (3-vectors, m) cut into equal segments."""
+
+    start_m: tuple[float, float, float]
+    end_m: tuple[float, float, float]
+    n_segments: int
+    radius_m: float
+    loss_perimeter_m: float = 0.0  # 0: lossless; else copper perimeter for the skin-effect loss
+
+
+@dataclass(frozen=True)
+class WireModel:
+    """Wires plus the source: a delta gap on segment ``source_segment`` of wire ``source_wire``.
+
+    The source drives current along the wire direction (start to end).
+    """
+
+    wires: tuple[Wire, ...]
+    source_wire: int
+    source_segment: int
+    slab: Slab | None = None
+    conductivity_s_per_m: float = COPPER_CONDUCTIVITY_S_PER_M
+
+    @property
+    def n_segments(self) -> int:
+        return sum(w.n_segments for w in self.wires)
+
+
+def gauss_legendre_unit(n_points: int) -> tuple[np.ndarray, np.ndarray]:
+    """Gauss-Legendre nodes and weights on [0, 1] (weights sum to 1)."""
+    x, w = np.polynomial.legendre.leggauss(n_points)
+    return 0.5 * (x + 1.0), 0.5 * w
+
+
+def cosine_graded_unit(n_points: int) -> tuple[np.ndarray, np.ndarray]:
+    """Gauss-Legendre rule on [0, 1] mapped by ``s = (1 - cos(pi u)) / 2`` (nodes crowd both ends)."""
+    u, w = gauss_legendre_unit(n_points)
+    return 0.5 * (1.0 - np.cos(np.pi * u)), w * 0.5 * np.pi * np.sin(np.pi * u)
+
+
+def slab_static_image_weights(eps_r: complex, thickness_m: float) -> tuple[complex, np.ndarray, np.ndarray]:
+    """Image series for the static potential of a unit charge on the face of a dielectric slab.
+
+    Potential on the face (air on both sides of a slab of thickness ``t``), derived from the
+    dielectric-interface reflection factor ``K = (eps - 1)/(eps + 1)`` (Jackson, "Classical
+    Electrodynamics", 3rd ed., sec. 4.4) by summing the multiple reflections:
+    ``4 pi eps0 phi(R) = (1 - K) [1/R + sum_n (K^(2n) + K^(2n-1)) / sqrt(R^2 + (2 n t)^2)]``.
+    Returns ``(K, weights, image_depths_m)`` with ``weights = (1 - K)(K^(2n) + K^(2n-1))``.
+    """
+    k_refl = (eps_r - 1.0) / (eps_r + 1.0)
+    if abs(k_refl) < 1e-15:
+        return complex(k_refl), np.zeros(0, complex), np.zeros(0)
+    n_max = int(min(SLAB_MAX_IMAGES, max(1, math.ceil(math.log(SLAB_IMAGE_REL_TOL) / math.log(abs(k_refl)) / 2 + 1))))
+    n = np.arange(1, n_max + 1)
+    weights = (1.0 - k_refl) * (k_refl ** (2 * n) + k_refl ** (2 * n - 1))
+    return complex(k_refl), weights.astype(complex), 2.0 * n * thickness_m
+
+
+@dataclass
+class _Mesh:
+    starts: np.ndarray
+    ends: np.ndarray
+    lengths: np.ndarray
+    units: np.ndarray
+    centres: np.ndarray
+    radii: np.ndarray
+    perimeters: np.ndarray
+    seg_nodes: np.ndarray  # (N, 2) node index of start / end
+    node_xyz: np.ndarray
+    half_basis: np.ndarray  # (H,) basis index of each half
+    half_seg: np.ndarray
+    half_loc: np.ndarray  # 0: half at segment start node, 1: at end node
+    half_sig: np.ndarray  # +1 when the basis current flows along the segment direction
+    basis_node: np.ndarray  # (B,) node of each basis
+    source_seg: int
+    extra: dict = field(default_factory=dict)
+
+    @property
+    def n_basis(self) -> int:
+        return int(self.basis_node.shape[0])
+
+
+def _segment_wires(model: WireModel) -> _Mesh:
+    """Cut the wires into segments, find nodes and build the triangle basis (with junctions)."""
+    if not model.wires:
+        raise SolverError("wire model has no wires; give at least one wire")
+    starts, ends, radii, perims = [], [], [], []
+    first_seg = []
+    for wire in model.wires:
+        if wire.n_segments < 1:
+            raise SolverError(f"wire n_segments = {wire.n_segments}: must be >= 1")
+        p0 = np.asarray(wire.start_m, float)
+        p1 = np.asarray(wire.end_m, float)
+        s = np.linspace(0.0, 1.0, wire.n_segments + 1)
+        pts = p0[None, :] + s[:, None] * (p1 - p0)[None, :]
+        first_seg.append(len(starts))
+        starts.extend(pts[:-1])
+        ends.extend(pts[1:])
+        radii.extend([wire.radius_m] * wire.n_segments)
+        perims.extend([wire.loss_perimeter_m] * wire.n_segments)
+    starts_a = np.array(starts)
+    ends_a = np.array(ends)
+    radii_a = np.array(radii, float)
+    lengths = np.linalg.norm(ends_a - starts_a, axis=1)
+    if np.any(lengths <= 0.0):
+        raise SolverError("wire model has a zero-length wire; remove it")
+    ratio = lengths / radii_a
+    if np.any(ratio < MIN_SEGMENT_TO_RADIUS):
+        bad = int(np.argmin(ratio))
+        raise SolverError(
+            f"segment {bad} length/radius = {ratio[bad]:.2f}: thin-wire kernel needs >= "
+            f"{MIN_SEGMENT_TO_RADIUS}; use fewer segments or a thinner wire"
+        )
+    if not (0 <= model.source_wire < len(model.wires)) or not (
+        0 <= model.source_segment < model.wires[model.source_wire].n_segments
+    ):
+        raise SolverError(
+            f"source (wire {model.source_wire}, segment {model.source_segment}) is not in the model"
+        )
+    n_seg = starts_a.shape[0]
+    all_pts = np.concatenate([starts_a, ends_a])
+    keys = np.round(all_pts / NODE_MERGE_TOL_M).astype(np.int64)
+    _, first_idx, inverse = np.unique(keys, axis=0, return_index=True, return_inverse=True)
+    inverse = inverse.reshape(-1)
+    node_xyz = all_pts[first_idx]
+    seg_nodes = np.stack([inverse[:n_seg], inverse[n_seg:]], axis=1)
+    if np.any(seg_nodes[:, 0] == seg_nodes[:, 1]):
+        raise SolverError("a segment is shorter than the node merge tolerance; refine the wire model")
+    # incidence ordered by node: (node, segment, local end)
+    inc_node = seg_nodes.T.reshape(-1)
+    inc_seg = np.concatenate([np.arange(n_seg), np.arange(n_seg)])
+    inc_loc = np.concatenate([np.zeros(n_seg, int), np.ones(n_seg, int)])
+    order = np.lexsort((inc_seg, inc_node))
+    inc_node, inc_seg, inc_loc = inc_node[order], inc_seg[order], inc_loc[order]
+    node_start = np.searchsorted(inc_node, np.arange(node_xyz.shape[0]))
+    ref_pos = node_start[inc_node]  # position of the node's reference (first) entry
+    is_other = np.arange(inc_node.shape[0]) != ref_pos
+    other_pos = np.nonzero(is_other)[0]
+    ref_of_other = ref_pos[other_pos]
+    n_basis = other_pos.shape[0]
+    # half 0: reference segment, current flowing into the node; half 1: other segment, flowing out
+    half_seg = np.stack([inc_seg[ref_of_other], inc_seg[other_pos]], axis=1)
+    half_loc = np.stack([inc_loc[ref_of_other], inc_loc[other_pos]], axis=1)
+    sig_in = np.where(half_loc[:, 0] == 1, 1, -1)
+    sig_out = np.where(half_loc[:, 1] == 0, 1, -1)
+    half_sig = np.stack([sig_in, sig_out], axis=1)
+    basis_node = inc_node[other_pos]
+    if n_basis == 0:
+        raise SolverError("wire model has no connected segment pair; each wire needs >= 2 segments")
+    units = (ends_a - starts_a) / lengths[:, None]
+    src = first_seg[model.source_wire] + model.source_segment
+    return _Mesh(
+        starts=starts_a,
+        ends=ends_a,
+        lengths=lengths,
+        units=units,
+        centres=0.5 * (starts_a + ends_a),
+        radii=radii_a,
+        perimeters=np.array(perims, float),
+        seg_nodes=seg_nodes,
+        node_xyz=node_xyz,
+        half_basis=np.repeat(np.arange(n_basis), 2),
+        half_seg=half_seg.reshape(-1),
+        half_loc=half_loc.reshape(-1),
+        half_sig=half_sig.reshape(-1),
+        basis_node=basis_node,
+        source_seg=src,
+    )
+
+
+def _pair_radius_sq(mesh: _Mesh, p: np.ndarray, q: np.ndarray) -> np.ndarray:
+    """Symmetric reduced-kernel radius squared of a segment pair: mean of the two squares."""
+    return 0.5 * (mesh.radii[p] ** 2 + mesh.radii[q] ** 2)
+
+
+def _line_points(mesh: _Mesh, seg: np.ndarray, s: np.ndarray) -> np.ndarray:
+    """Points at unit parameters ``s`` (Q,) on segments ``seg`` (P,) -> (P, Q, 3)."""
+    return mesh.starts[seg][:, None, :] + (s[None, :, None] * mesh.lengths[seg][:, None, None]) * mesh.units[seg][:, None, :]
+
+
+def _node_fns(s: np.ndarray) -> np.ndarray:
+    """Linear node functions ``(1 - s, s)`` -> (..., 2)."""
+    return np.stack([1.0 - s, s], axis=-1)
+
+
+class _PairIntegrals:
+    """Accurate 2x2 node-function integrals for close segment pairs, split into parts that depend on
+    ``k`` only through ``exp(-jkR) - 1`` (cached geometry) and static parts."""
+
+    def __init__(self, mesh: _Mesh, p: np.ndarray, q: np.ndarray, singular: bool) -> None:
+        self.p, self.q = p, q
+        lp, lq = mesh.lengths[p], mesh.lengths[q]
+        a2 = _pair_radius_sq(mesh, p, q)
+        if singular:
+            s_o, w_o = cosine_graded_unit(OUTER_POINTS_SINGULAR)
+            t_i, w_i = gauss_legendre_unit(INNER_POINTS_SINGULAR)
+        else:
+            s_o, w_o = gauss_legendre_unit(POINTS_NEAR)
+            t_i, w_i = s_o, w_o
+        r_obs = _line_points(mesh, p, s_o)  # (P, O, 3)
+        r_src = _line_points(mesh, q, t_i)  # (P, I, 3)
+        diff = r_obs[:, :, None, :] - r_src[:, None, :, :]
+        self.r_pts = np.sqrt(np.einsum("poid,poid->poi", diff, diff) + a2[:, None, None])  # (P,O,I)
+        phi_o = _node_fns(s_o)  # (O, 2)
+        phi_i = _node_fns(t_i)  # (I, 2)
+        # outer weights x node function x l_p ; inner weights x node function x l_q
+        self.w_out = (lp[:, None, None] * (w_o[:, None] * phi_o)[None, :, :])  # (P, O, 2)
+        self.w_in = (lq[:, None, None] * (w_i[:, None] * phi_i)[None, :, :])  # (P, I, 2)
+        self.singular = singular
+        self.self_mask = p == q
+        if singular:
+            # closed-form inner integral of (node function)/R over the source segment
+            rel = r_obs - mesh.starts[q][:, None, :]
+            t0 = np.einsum("pod,pd->po", rel, mesh.units[q])
+            rho2 = np.maximum(np.einsum("pod,pod->po", rel, rel) - t0**2, 0.0)
+            d = np.sqrt(rho2 + a2[:, None])
+            lq_b = lq[:, None]
+            i0 = np.arcsinh((lq_b - t0) / d) + np.arcsinh(t0 / d)
+            i1 = np.sqrt((lq_b - t0) ** 2 + d**2) - np.sqrt(t0**2 + d**2) + t0 * i0
+            j1 = i1 / lq_b
+            j_static = np.stack([i0 - j1, j1], axis=-1)  # (P, O, 2)
+            static = np.einsum("poa,pob->pab", self.w_out, j_static) / (4.0 * math.pi)
+            static[self.self_mask] = 0.5 * (static[self.self_mask] + static[self.self_mask].transpose(0, 2, 1))
+            self.static = static
+        else:
+            self.static = self._product(1.0 / self.r_pts) / (4.0 * math.pi)
+
+    def full(self, k_rad_per_m: float) -> np.ndarray:
+        """``int int phi_a phi_b exp(-jkR)/(4 pi R)`` -> (P, 2, 2)."""
+        if self.singular:
+            kern = (np.exp(-1j * k_rad_per_m * self.r_pts) - 1.0) / self.r_pts
+            return self.static + self._product(kern) / (4.0 * math.pi)
+        kern = np.exp(-1j * k_rad_per_m * self.r_pts) / self.r_pts
+        return self._product(kern) / (4.0 * math.pi)
+
+    def _product(self, kern: np.ndarray) -> np.ndarray:
+        """``sum_o sum_i w_out[o, a] kern[o, i] w_in[i, b]`` per pair -> (P, 2, 2), symmetric for self pairs."""
+        inner = np.einsum("poi,pib->pob", kern, self.w_in)
+        out = np.einsum("poa,pob->pab", self.w_out, inner)
+        if self.self_mask.any():
+            out[self.self_mask] = 0.5 * (out[self.self_mask] + out[self.self_mask].transpose(0, 2, 1))
+        return out
+
+    def smooth_kernel(self, fn: Callable[[np.ndarray], np.ndarray]) -> np.ndarray:
+        """Integral of a smooth kernel ``fn(R)`` with the product rule -> (P, 2, 2)."""
+        return self._product(fn(self.r_pts))
+
+
+class MomSolver:
+    """Thin-wire MPIE solver for one :class:`WireModel` (geometry work done once)."""
+
+    def __init__(self, model: WireModel) -> None:
+        self.model = model
+        mesh = _segment_wires(model)
+        self.mesh = mesh
+        n_seg = mesh.lengths.shape[0]
+        n_basis = mesh.n_basis
+        if model.slab is not None and np.any(np.abs(np.concatenate([mesh.starts[:, 2], mesh.ends[:, 2]])) > NODE_MERGE_TOL_M):
+            raise SolverError("laminate model needs all wires in the plane z = 0 (top face of the slab)")
+        hb, hs, hl, hg = mesh.half_basis, mesh.half_seg, mesh.half_loc, mesh.half_sig
+        delta = np.where(hl == 1, 1.0, -1.0)
+        # far tier (midpoint rule): Z_far = sum over the 2 x 2 half combinations of static weights
+        # times the kernel between segment midpoints, gathered at basis level
+        seg_h = hs.reshape(-1, 2)
+        w_half = (hg * mesh.lengths[hs] / 2.0).reshape(-1, 2)
+        c_half = (hg * delta).reshape(-1, 2)
+        dots = mesh.units @ mesh.units.T
+        self._half_segs = (seg_h[:, 0].copy(), seg_h[:, 1].copy())
+        self._w_far_a = [[(np.outer(w_half[:, i], w_half[:, j]) * dots[np.ix_(seg_h[:, i], seg_h[:, j])]).astype(FAR_REAL)
+                          for j in range(2)] for i in range(2)]
+        self._w_far_phi = [[np.outer(c_half[:, i], c_half[:, j]).astype(FAR_REAL) for j in range(2)] for i in range(2)]
+        cen = mesh.centres
+        sq = np.einsum("nd,nd->n", cen, cen)
+        dist2 = np.maximum(sq[:, None] + sq[None, :] - 2.0 * cen @ cen.T, 0.0)
+        a2 = 0.5 * (mesh.radii[:, None] ** 2 + mesh.radii[None, :] ** 2)
+        self._r_mid = np.sqrt(dist2 + a2)
+        self._inv_4pi_r_mid = 1.0 / (4.0 * math.pi * self._r_mid)
+        self._r_mid_far = self._r_mid.astype(FAR_REAL)
+        self._far_static: tuple[np.ndarray, np.ndarray] | None = None
+        self._inv_4pi_r_mid_far = self._inv_4pi_r_mid.astype(FAR_REAL)
+        # pair tiers (p <= q)
+        inc = sp.csr_matrix((np.ones(2 * n_seg), (np.repeat(np.arange(n_seg), 2), mesh.seg_nodes.reshape(-1))),
+                            shape=(n_seg, mesh.node_xyz.shape[0]))
+        touch = (inc @ inc.T).tocoo()
+        tp, tq = touch.row, touch.col
+        keep = tp <= tq
+        sing_p, sing_q = tp[keep], tq[keep]
+        mean_len = 0.5 * (mesh.lengths[:, None] + mesh.lengths[None, :])
+        near_mask = np.triu(np.sqrt(dist2) < NEAR_PAIR_FACTOR * mean_len, 1)
+        near_mask[sing_p, sing_q] = False
+        near_p, near_q = np.nonzero(near_mask)
+        self._sing = _PairIntegrals(mesh, sing_p, sing_q, singular=True)
+        self._near = _PairIntegrals(mesh, near_p, near_q, singular=False)
+        self._pair_expansion = {
+            "sing": self._expand_pairs(sing_p, sing_q),
+            "near": self._expand_pairs(near_p, near_q),
+        }
+        self._delta = delta
+        # source vector: applied field V/l on the source segment, V = 1
+        on_src = hs == mesh.source_seg
+        self._v = np.zeros(n_basis)
+        np.add.at(self._v, hb[on_src], hg[on_src] * 0.5)
+        self._far_static = self._far(self._inv_4pi_r_mid)
+        self._slab_phi = self._slab_scalar_matrix() if model.slab is not None else None
+        self._loss_idx, self._loss_val = self._loss_pattern()
+
+    # -- assembly helpers -------------------------------------------------------------------
+    def _expand_pairs(self, p: np.ndarray, q: np.ndarray) -> dict:
+        """All (half on p) x (half on q) combinations of the pair list, both orders (p, q), (q, p)."""
+        mesh = self.mesh
+        order = np.argsort(mesh.half_seg, kind="stable")
+        hs_sorted = mesh.half_seg[order]
+        n_seg = mesh.lengths.shape[0]
+        ptr = np.searchsorted(hs_sorted, np.arange(n_seg + 1))
+        cnt = np.diff(ptr)
+        pair_ids, hp_list, hq_list = [], [], []
+        for pp, qq, swap in ((p, q, False), (q, p, True)):
+            sel = np.arange(p.shape[0])
+            if swap:
+                sel = sel[p != q]
+            pp, qq = pp[sel], qq[sel]
+            cp, cq = cnt[pp], cnt[qq]
+            tot = cp * cq
+            rep = np.repeat(np.arange(sel.shape[0]), tot)
+            off = np.arange(tot.sum()) - np.repeat(np.cumsum(tot) - tot, tot)
+            ip = off // cq[rep]
+            iq = off % cq[rep]
+            hp = order[ptr[pp[rep]] + ip]
+            hq = order[ptr[qq[rep]] + iq]
+            pair_ids.append(np.stack([sel[rep], np.full(rep.shape, int(swap))], axis=1))
+            hp_list.append(hp)
+            hq_list.append(hq)
+        pair = np.concatenate(pair_ids)
+        h_obs = np.concatenate(hp_list)
+        h_src = np.concatenate(hq_list)
+        # for swapped entries the stored pair integral is M_qp; we need M_pq[a,b] = M_qp[b,a]
+        swap = pair[:, 1] == 1
+        loc_first = np.where(swap, mesh.half_loc[h_src], mesh.half_loc[h_obs])
+        loc_second = np.where(swap, mesh.half_loc[h_obs], mesh.half_loc[h_src])
+        seg_o, seg_s = mesh.half_seg[h_obs], mesh.half_seg[h_src]
+        sig = mesh.half_sig[h_obs] * mesh.half_sig[h_src]
+        n_basis = mesh.n_basis
+        flat = mesh.half_basis[h_obs] * n_basis + mesh.half_basis[h_src]
+        uniq, inv = np.unique(flat, return_inverse=True)
+        return {
+            "uniq": uniq,
+            "inv": inv.reshape(-1),
+            "pair": pair[:, 0],
+            "loc1": loc_first,
+            "loc2": loc_second,
+            "w_a": sig * np.einsum("nd,nd->n", mesh.units[seg_o], mesh.units[seg_s]),
+            "w_phi": sig * self_delta(mesh, h_obs) * self_delta(mesh, h_src) / (mesh.lengths[seg_o] * mesh.lengths[seg_s]),
+            "mid": (seg_o, seg_s),
+            "flat": flat,
+        }
+
+    def _scatter(self, exp: dict, m_pairs: np.ndarray, g_mid: np.ndarray, weight_key: str,
+                 target: np.ndarray) -> np.ndarray:
+        """Add the pair corrections (accurate integral minus the midpoint-rule value already in the
+        far tier; ``g_mid`` is the midpoint kernel per expanded entry) to ``target``."""
+        vals = m_pairs[exp["pair"], exp["loc1"], exp["loc2"]] if weight_key == "w_a" else m_pairs.sum(axis=(1, 2))[exp["pair"]]
+        seg_o, seg_s = exp["mid"]
+        lp, lq = self.mesh.lengths[seg_o], self.mesh.lengths[seg_s]
+        vals = vals - g_mid * (lp * lq / 4.0 if weight_key == "w_a" else lp * lq)
+        vals = vals * exp[weight_key]
+        n_u = exp["uniq"].shape[0]
+        summed = np.bincount(exp["inv"], weights=vals.real, minlength=n_u) + 1j * np.bincount(
+            exp["inv"], weights=vals.imag, minlength=n_u
+        )
+        target.reshape(-1)[exp["uniq"]] += summed
+        return target
+
+    def _far_dynamic_kernel(self, k_rad_per_m: float) -> np.ndarray:
+        """``(exp(-jkR) - 1)/(4 pi R)`` between segment midpoints, in the far-tier precision.
+
+        Written as ``(-2 sin^2(kR/2) - j sin(kR)) / (4 pi R)`` so that single precision keeps its
+        relative accuracy; the static part ``1/(4 pi R)`` is filled once in double precision (the
+        scalar-potential matrix is dominated by differences of it).
+        """
+        half = self._r_mid_far * FAR_REAL(0.5 * k_rad_per_m)
+        g = np.empty(half.shape, FAR_COMPLEX)
+        s_half = np.sin(half)
+        np.multiply(s_half, s_half, out=g.real)
+        g.real *= FAR_REAL(-2.0)
+        half *= FAR_REAL(2.0)
+        np.sin(half, out=g.imag)
+        np.negative(g.imag, out=g.imag)
+        g *= self._inv_4pi_r_mid_far
+        return g
+
+    def _far(self, g_mid: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """Midpoint-rule ``A`` and ``Phi`` for all pairs from the segment-midpoint kernel ``g_mid``
+        (accumulated in the precision of ``g_mid``)."""
+        a_mat = np.zeros((self.mesh.n_basis, self.mesh.n_basis), g_mid.dtype)
+        phi_mat = np.zeros_like(a_mat)
+        tmp = np.empty_like(a_mat)
+        for i in range(2):
+            rows = g_mid[self._half_segs[i]]
+            for j in range(2):
+                gij = rows[:, self._half_segs[j]]
+                a_mat += np.multiply(self._w_far_a[i][j], gij, out=tmp)
+                phi_mat += np.multiply(self._w_far_phi[i][j], gij, out=tmp)
+        return a_mat, phi_mat
+
+    def _slab_scalar_matrix(self) -> np.ndarray:
+        """Frequency-independent slab part of the scalar-potential matrix (basis level)."""
+        slab = self.model.slab
+        k_refl, weights, depths = slab_static_image_weights(slab.eps_complex, slab.thickness_m)
+
+        def images(r: np.ndarray) -> np.ndarray:
+            out = np.zeros(r.shape, complex)
+            r2 = r**2
+            for w_n, z_n in zip(weights, depths):
+                out += w_n / np.sqrt(r2 + z_n**2)
+            return out / (4.0 * math.pi)
+
+        kern_mid = images(self._r_mid) - k_refl * self._inv_4pi_r_mid
+        _, phi = self._far(kern_mid)
+        for name, pairs in (("sing", self._sing), ("near", self._near)):
+            m = pairs.smooth_kernel(images) - k_refl * pairs.static
+            seg_o, seg_s = self._pair_expansion[name]["mid"]
+            phi = self._scatter(self._pair_expansion[name], m, kern_mid[seg_o, seg_s], "w_phi", phi)
+        return phi
+
+    def _loss_pattern(self) -> tuple[np.ndarray, np.ndarray]:
+        """Sparse pattern of ``int f_m . f_n dl / perimeter`` over lossy segments."""
+        mesh = self.mesh
+        exp = self._pair_expansion["sing"]
+        seg_o, seg_s = exp["mid"]
+        same = (seg_o == seg_s) & (mesh.perimeters[seg_o] > 0.0)
+        mass = np.where(exp["loc1"][same] == exp["loc2"][same], 1.0 / 3.0, 1.0 / 6.0)
+        vals = exp["w_a"][same] * mass * mesh.lengths[seg_o[same]] / np.where(same, mesh.perimeters[seg_o], 1.0)[same]
+        idx, inv = np.unique(exp["flat"][same], return_inverse=True)
+        return idx, np.bincount(inv.reshape(-1), weights=vals, minlength=idx.shape[0])
+
+    def surface_resistance_ohm(self, freq_hz: float) -> float:
+        """Skin-effect surface resistance ``sqrt(w mu0 / (2 sigma))`` (Balanis 4th ed. sec. 2.14)."""
+        return math.sqrt(2.0 * math.pi * freq_hz * MU0_H_PER_M / (2.0 * self.model.conductivity_s_per_m))
+
+    # -- matrices ---------------------------------------------------------------------------
+    def potential_matrices(self, freq_hz: float) -> tuple[np.ndarray, np.ndarray]:
+        """Basis-level vector- and scalar-potential matrices ``A``, ``Phi`` (free-space kernel)."""
+        k = 2.0 * math.pi * freq_hz / C0_M_PER_S
+        g_dyn = self._far_dynamic_kernel(k)
+        a_dyn, phi_dyn = self._far(g_dyn)
+        a_mat = a_dyn + self._far_static[0]
+        phi_mat = phi_dyn + self._far_static[1]
+        for name, pairs in (("sing", self._sing), ("near", self._near)):
+            m = pairs.full(k)
+            exp = self._pair_expansion[name]
+            seg_o, seg_s = exp["mid"]
+            g_mid = g_dyn[seg_o, seg_s] + self._inv_4pi_r_mid[seg_o, seg_s]
+            self._scatter(exp, m, g_mid, "w_a", a_mat)
+            self._scatter(exp, m, g_mid, "w_phi", phi_mat)
+        return a_mat, phi_mat
+
+    def _combine(self, freq_hz: float, a_mat: np.ndarray, phi_mat: np.ndarray) -> np.ndarray:
+        omega = 2.0 * math.pi * freq_hz
+        if self._slab_phi is not None:
+            phi_mat = phi_mat + self._slab_phi
+        z = (1j * omega * MU0_H_PER_M) * a_mat + phi_mat / (1j * omega * EPS0_F_PER_M)
+        if self._loss_idx.shape[0]:
+            z.reshape(-1)[self._loss_idx] += (1.0 + 1j) * self.surface_resistance_ohm(freq_hz) * self._loss_val
+        return z
+
+    def impedance_matrix(self, freq_hz: float) -> np.ndarray:
+        """Full Galerkin impedance matrix (ohm) at one frequency."""
+        return self._combine(freq_hz, *self.potential_matrices(freq_hz))
+
+    def zin_ohm(self, freq_hz: float) -> complex:
+        """Input impedance at the delta-gap source (full fill and LAPACK solve)."""
+        z = self.impedance_matrix(freq_hz)
+        return complex(1.0 / (self._v @ np.linalg.solve(z, self._v.astype(complex))))
+
+    def currents(self, freq_hz: float) -> np.ndarray:
+        """Basis-function current amplitudes (A) for 1 V at the source."""
+        z = self.impedance_matrix(freq_hz)
+        return np.linalg.solve(z, self._v.astype(complex))
+
+    @property
+    def basis_distance_m(self) -> np.ndarray:
+        """Distances between the nodes of all basis pairs (phase centres for interpolation)."""
+        if "basis_dist" not in self.mesh.extra:
+            xyz = self.mesh.node_xyz[self.mesh.basis_node]
+            sq = np.einsum("nd,nd->n", xyz, xyz)
+            self.mesh.extra["basis_dist"] = np.sqrt(np.maximum(sq[:, None] + sq[None, :] - 2.0 * xyz @ xyz.T, 0.0))
+        return self.mesh.extra["basis_dist"]
+
+    @property
+    def n_unknowns(self) -> int:
+        return self.mesh.n_basis
+
+    # -- sweeps -----------------------------------------------------------------------------
+    def sweep_direct(self, freqs_hz: np.ndarray, progress: Callable[[int, int], None] | None = None) -> np.ndarray:
+        """Zin at every frequency by a full fill and solve."""
+        freqs = np.asarray(freqs_hz, float)
+        out = np.empty(freqs.shape[0], complex)
+        for i, f in enumerate(freqs):
+            out[i] = self.zin_ohm(float(f))
+            if progress is not None:
+                progress(i + 1, freqs.shape[0])
+        return out
+
+    def anchor_frequencies(self, f_lo_hz: float, f_hi_hz: float) -> np.ndarray:
+        """Anchors for matrix interpolation: ``dk * D_max <= INTERP_PHASE_STEP_RAD``, odd count >= 3."""
+        d_max = float(self.basis_distance_m.max()) + float(self.mesh.lengths.max())
+        dk = 2.0 * math.pi * (f_hi_hz - f_lo_hz) / C0_M_PER_S
+        n = max(3, int(math.ceil(dk * d_max / INTERP_PHASE_STEP_RAD)) + 1)
+        n += (n + 1) % 2
+        return np.linspace(f_lo_hz, f_hi_hz, n)
+
+    def sweep_interpolated(
+        self,
+        freqs_hz: np.ndarray,
+        progress: Callable[[int, int], None] | None = None,
+        anchors_hz: np.ndarray | None = None,
+    ) -> np.ndarray:
+        """Zin over a sweep by phase-extracted quadratic interpolation of ``A`` and ``Phi`` between
+        anchor fills (Newman 1988), one LAPACK solve per frequency (batched)."""
+        freqs = np.asarray(freqs_hz, float)
+        if freqs.ndim != 1 or freqs.shape[0] == 0:
+            raise SolverError("freqs_hz must be a non-empty 1-D array")
+        if anchors_hz is None:
+            anchors_hz = self.anchor_frequencies(float(freqs.min()), float(freqs.max()))
+        anchors = np.asarray(anchors_hz, float)
+        k_anchor = 2.0 * math.pi * anchors / C0_M_PER_S
+        dist = self.basis_distance_m
+        stack_a, stack_p = [], []
+        for f, k in zip(anchors, k_anchor):
+            a_mat, phi_mat = self.potential_matrices(float(f))
+            ph = np.exp(1j * k * dist)
+            stack_a.append(a_mat * ph)
+            stack_p.append(phi_mat * ph)
+        n_b = dist.shape[0]
+        k_all = 2.0 * math.pi * freqs / C0_M_PER_S
+        # group of three consecutive anchors nearest each frequency
+        centre = np.clip(np.searchsorted(k_anchor, k_all) - 1, 0, max(0, len(anchors) - 3))
+        if len(anchors) < 3:
+            raise SolverError("matrix interpolation needs >= 3 anchor frequencies")
+        out = np.empty(freqs.shape[0], complex)
+        v = self._v.astype(complex)
+        done = 0
+        for start in range(0, freqs.shape[0], SOLVE_CHUNK):
+            sl = slice(start, min(start + SOLVE_CHUNK, freqs.shape[0]))
+            z_batch = np.empty((sl.stop - sl.start, n_b, n_b), complex)
+            for j, i in enumerate(range(sl.start, sl.stop)):
+                c = int(centre[i])
+                kk = k_anchor[c : c + 3]
+                x = k_all[i]
+                lw = [
+                    (x - kk[1]) * (x - kk[2]) / ((kk[0] - kk[1]) * (kk[0] - kk[2])),
+                    (x - kk[0]) * (x - kk[2]) / ((kk[1] - kk[0]) * (kk[1] - kk[2])),
+                    (x - kk[0]) * (x - kk[1]) / ((kk[2] - kk[0]) * (kk[2] - kk[1])),
+                ]
+                ph = np.exp(-1j * x * dist)
+                a_mat = ph * (lw[0] * stack_a[c] + lw[1] * stack_a[c + 1] + lw[2] * stack_a[c + 2])
+                p_mat = ph * (lw[0] * stack_p[c] + lw[1] * stack_p[c + 1] + lw[2] * stack_p[c + 2])
+                z_batch[j] = self._combine(float(freqs[i]), a_mat, p_mat)
+            cur = np.linalg.solve(z_batch, np.broadcast_to(v, (z_batch.shape[0], n_b))[..., None])[..., 0]
+            out[sl] = 1.0 / (cur @ v)
+            done = sl.stop
+            if progress is not None:
+                progress(done, freqs.shape[0])
+        return out
+
+
+def self_delta(mesh: _Mesh, halves: np.ndarray) -> np.ndarray:
+    """Sign of the divergence of a half triangle: +1 at the segment end node, -1 at the start."""
+    return np.where(mesh.half_loc[halves] == 1, 1.0, -1.0)
+
+
+SWEEP_METHODS: dict[str, Callable[..., np.ndarray]] = {
+    "direct": MomSolver.sweep_direct,
+    "interpolated": MomSolver.sweep_interpolated,
+}
+
+
+def zin_sweep_ohm(
+    model: WireModel,
+    freqs_hz: np.ndarray,
+    method: str = "interpolated",
+    progress: Callable[[int, int], None] | None = None,
+) -> np.ndarray:
+    """Input impedance of ``model`` over ``freqs_hz`` with the named sweep method."""
+    if method not in SWEEP_METHODS:
+        raise SolverError(f"sweep method = {method!r}: use one of {sorted(SWEEP_METHODS)}")
+    return SWEEP_METHODS[method](MomSolver(model), freqs_hz, progress=progress)
+
+
+__all__ = [
+    "ETA0_OHM",
+    "MomSolver",
+    "Slab",
+    "Wire",
+    "WireModel",
+    "slab_static_image_weights",
+    "zin_sweep_ohm",
+]

@@ -1,0 +1,570 @@
+"""Fast transmission-line model of a printed IFA at its feed (instant estimates, optimiser start).
+
+Model
+-----
+The arm and the ground edge form a quasi-TEM line (a strip beside a coplanar ground half-plane,
+:func:`footgen.physics.lines.z0_strip_beside_ground_edge`, evaluated per arm segment at that
+segment's height; a segment perpendicular to the edge uses its mean height).  The feed leg taps
+this line at ``feed_x_m``; the port sees two lines in parallel:
+
+* the shorted stub from the tap back to the short leg, terminated by ``R_rad + j w L_short``;
+* the open arm from the tap to the open end (open circuit; fringing at the end is ignored,
+  which puts the predicted resonance slightly high).
+
+``Z_in = 1 / (Y_short_side + Y_open_side)`` plus, optionally, ``j w L_feed`` for the feed leg.
+The resonance is the zero of ``Im(Y_short_side + Y_open_side)`` where it rises through zero
+(the arm's quarter-wave parallel resonance).
+
+Approximations the numbers cannot escape
+----------------------------------------
+* Quasi-static line constants (no dispersion); conductor loss ignored; dielectric loss from the
+  laminate's loss tangent with the quasi-TEM filling factor.
+* A meandered arm is its centreline length: the meander's mutual coupling (which shortens the
+  electrical length of a real meander) is ignored, and a meander leg perpendicular to the ground
+  edge is treated as a line at its mean height.  Expect a meandered arm to resonate lower than
+  predicted.
+* The short leg is a lumped partial self-inductance (flat thin strip, Grover); its mutual
+  inductance with the feed leg and the line is ignored.
+* Radiation is one series resistance at the current maximum (the short).  A physics-only
+  estimate (the legs as a Hertzian dipole, :func:`radiation_resistance_hertzian_legs_ohm`)
+  gives well under 1 % bandwidth, because most of a printed IFA's radiation comes from
+  ground-plane currents that a two-conductor line cannot describe.  The default
+  (:func:`radiation_resistance_height_rule_ohm`) is therefore a calibration, common practice, no
+  source; replace it by a fit to full-wave results when those exist.
+
+Estimates never replace measurement; radio products must meet local radio regulations and
+RF-exposure limits.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Callable
+from dataclasses import dataclass, replace
+
+import numpy as np
+from numpy.typing import ArrayLike, NDArray
+from scipy import optimize
+
+from footgen.constants import C0_M_PER_S, MU0_H_PER_M, PI
+from footgen.errors import SolverError
+from footgen.physics.ifa import PrintedIfa
+from footgen.physics.lines import (
+    eps_eff_strip_beside_ground_edge,
+    z0_strip_beside_ground_edge,
+)
+
+#: Reference impedance of the feed line (ohm).
+FEED_REFERENCE_OHM = 50.0
+#: Slope of the default radiation-resistance rule, R_rad = slope * H / lambda0 (ohm).
+#: Common practice, no source: chosen so that a straight IFA at H ~ lambda0/30 shows the
+#: several-per-cent -10 dB bandwidth and millimetre feed-short spacing usual for printed IFAs.
+RADIATION_SLOPE_OHM = 600.0
+#: Resonance search window around the quarter-wave estimate (fractions of it).
+RESONANCE_SEARCH_LOW = 0.4
+RESONANCE_SEARCH_HIGH = 1.6
+#: Frequency samples used to bracket the resonance before Brent refinement.
+RESONANCE_SEARCH_POINTS = 241
+#: Relative tolerance of the frequency, length and spacing root finders.
+ROOT_RTOL = 1e-9
+#: Lengths below this are treated as zero (m).
+LENGTH_EPS_M = 1e-12
+
+
+@dataclass(frozen=True)
+class TlineIfaOptions:
+    """Switches of the transmission-line IFA model.
+
+    ``radiation_model`` names an entry of :data:`RADIATION_MODELS`;
+    ``radiation_resistance_ohm`` (if set) overrides it with a fixed value (for fits).
+    """
+
+    leg_inductance: bool = True
+    dielectric_loss: bool = True
+    radiation_model: str = "height_rule"
+    radiation_resistance_ohm: float | None = None
+
+
+DEFAULT_OPTIONS = TlineIfaOptions()
+
+
+# --------------------------------------------------------------------------------------------
+# building blocks
+# --------------------------------------------------------------------------------------------
+
+
+def strip_partial_inductance_h(length_m: float, width_m: float) -> float:
+    """Partial self-inductance (H) of a thin flat straight strip.
+
+    Grover, "Inductance Calculations", 1946 (Dover 1962), straight rectangular bar with
+    thickness -> 0 (from memory): ``L = mu0 l / (2 pi) [ln(2 l / w) + 1/2 + 0.2235 w / l]``.
+    Meant for ``l >> w``; kept positive for stubby legs by a floor at zero.
+    """
+    if length_m <= 0.0 or width_m <= 0.0:
+        raise SolverError(
+            f"strip length_m = {length_m!r}, width_m = {width_m!r}: both must be > 0"
+        )
+    value = (
+        MU0_H_PER_M
+        * length_m
+        / (2.0 * PI)
+        * (math.log(2.0 * length_m / width_m) + 0.5 + 0.2235 * width_m / length_m)
+    )
+    return max(value, 0.0)
+
+
+def parallel_filaments_mutual_inductance_h(length_m: float, distance_m: float) -> float:
+    """Mutual partial inductance (H) of two parallel filaments of equal length, side by side.
+
+    Grover, "Inductance Calculations", 1946 (Dover 1962), parallel filaments of equal length
+    (from memory): ``M = mu0 l / (2 pi) [asinh(l/d) - sqrt(1 + (d/l)^2) + d/l]``.
+    """
+    if length_m <= 0.0 or distance_m <= 0.0:
+        raise SolverError(
+            f"filament length_m = {length_m!r}, distance_m = {distance_m!r}: both must be > 0"
+        )
+    ratio = distance_m / length_m
+    return (
+        MU0_H_PER_M
+        * length_m
+        / (2.0 * PI)
+        * (math.asinh(1.0 / ratio) - math.sqrt(1.0 + ratio * ratio) + ratio)
+    )
+
+
+@dataclass(frozen=True)
+class LegInductances:
+    """Partial inductances (H) of the feed leg, the short leg and their mutual inductance."""
+
+    feed_h: float
+    short_h: float
+    mutual_h: float
+
+
+def leg_inductances(ifa: PrintedIfa, options: TlineIfaOptions = DEFAULT_OPTIONS) -> LegInductances:
+    """Legs of height ``H`` (ground edge to arm centreline) as thin strips (Grover): self terms
+    from :func:`strip_partial_inductance_h`, mutual from
+    :func:`parallel_filaments_mutual_inductance_h` at the feed-short spacing (capped at the
+    smaller self term).  All zero when ``options.leg_inductance`` is off."""
+    if not options.leg_inductance:
+        return LegInductances(0.0, 0.0, 0.0)
+    feed = strip_partial_inductance_h(ifa.height_m, ifa.trace_width_m)
+    short = strip_partial_inductance_h(ifa.height_m, ifa.short_width_m)
+    mutual = parallel_filaments_mutual_inductance_h(ifa.height_m, ifa.feed_short_spacing_m)
+    return LegInductances(feed, short, min(mutual, feed, short))
+
+
+def dielectric_attenuation_np_per_m(
+    freq_hz: ArrayLike, eps_r: float, eps_eff: float, loss_tangent: float
+) -> NDArray[np.float64]:
+    """Dielectric attenuation (Np/m) of a quasi-TEM line with a partly filled cross-section.
+
+    Pozar, "Microwave Engineering", 4th ed. 2012, eq. (3.198) (from memory):
+    ``alpha_d = k0 eps_r (eps_eff - 1) tan_d / (2 sqrt(eps_eff) (eps_r - 1))``.
+    """
+    f = np.asarray(freq_hz, dtype=float)
+    if eps_r <= 1.0 or loss_tangent == 0.0:
+        return np.zeros_like(f)
+    k0 = 2.0 * PI * f / C0_M_PER_S
+    return k0 * eps_r * (eps_eff - 1.0) * loss_tangent / (2.0 * math.sqrt(eps_eff) * (eps_r - 1.0))
+
+
+def radiation_resistance_hertzian_legs_ohm(freq_hz: ArrayLike, ifa: PrintedIfa) -> NDArray:
+    """Radiation resistance (ohm, at the current maximum) of the legs as a uniform-current
+    electric dipole of length ``H`` in free space (the ground is coplanar, so no image):
+    ``R = 80 pi^2 (H / lambda0)^2`` (Balanis, "Antenna Theory", 3rd ed. 2005, eq. (4-19)).
+    The line mode's own radiation is neglected.  Physics only; far too small for a real board.
+    """
+    wavelength = C0_M_PER_S / np.asarray(freq_hz, dtype=float)
+    return 80.0 * PI**2 * (ifa.height_m / wavelength) ** 2
+
+
+def radiation_resistance_height_rule_ohm(freq_hz: ArrayLike, ifa: PrintedIfa) -> NDArray:
+    """Radiation resistance (ohm, at the current maximum) ``R = RADIATION_SLOPE_OHM * H/lambda0``.
+
+    Common practice, no source: a calibration, not physics (see the module docstring).
+    """
+    wavelength = C0_M_PER_S / np.asarray(freq_hz, dtype=float)
+    return RADIATION_SLOPE_OHM * ifa.height_m / wavelength
+
+
+#: Radiation models by name.
+RADIATION_MODELS: dict[str, Callable[[ArrayLike, PrintedIfa], NDArray]] = {
+    "height_rule": radiation_resistance_height_rule_ohm,
+    "hertzian_legs": radiation_resistance_hertzian_legs_ohm,
+}
+
+
+def radiation_resistance_ohm(
+    freq_hz: ArrayLike, ifa: PrintedIfa, options: TlineIfaOptions = DEFAULT_OPTIONS
+) -> NDArray[np.float64]:
+    """Series radiation resistance at the short (ohm) chosen by ``options``."""
+    f = np.asarray(freq_hz, dtype=float)
+    if options.radiation_resistance_ohm is not None:
+        if options.radiation_resistance_ohm < 0.0:
+            raise SolverError(
+                f"radiation_resistance_ohm = {options.radiation_resistance_ohm!r}: must be >= 0"
+            )
+        return np.full_like(f, options.radiation_resistance_ohm)
+    try:
+        model = RADIATION_MODELS[options.radiation_model]
+    except KeyError:
+        raise SolverError(
+            f"radiation_model = {options.radiation_model!r}: choose one of "
+            f"{sorted(RADIATION_MODELS)}"
+        ) from None
+    return np.asarray(model(f, ifa), dtype=float)
+
+
+@dataclass(frozen=True)
+class LineSection:
+    """One arm segment as a line: length, characteristic impedance, effective permittivity."""
+
+    length_m: float
+    z0_ohm: float
+    eps_eff: float
+
+
+def _check_ifa(ifa: PrintedIfa) -> None:
+    lam = ifa.laminate
+    checks = (
+        ("trace_width_m", ifa.trace_width_m),
+        ("short_width_m", ifa.short_width_m),
+        ("laminate.thickness_m", lam.thickness_m),
+    )
+    for name, value in checks:
+        if not value > 0.0:
+            raise SolverError(f"{name} = {value!r}: must be > 0")
+    if not lam.eps_r >= 1.0:
+        raise SolverError(f"laminate.eps_r = {lam.eps_r!r}: must be >= 1")
+    if not lam.loss_tangent >= 0.0:
+        raise SolverError(f"laminate.loss_tangent = {lam.loss_tangent!r}: must be >= 0")
+    if len(ifa.arm_path_m) < 2:
+        raise SolverError(f"arm_path_m = {ifa.arm_path_m!r}: needs at least two points")
+    for x, y in ifa.arm_path_m:
+        if not y - ifa.trace_width_m / 2.0 > 0.0:
+            raise SolverError(
+                f"arm_path_m point ({x!r}, {y!r}): the arm's edge must stay above the ground "
+                f"edge y = 0 (y > trace_width_m / 2 = {ifa.trace_width_m / 2.0!r})"
+            )
+
+
+def _line_at_height(ifa: PrintedIfa, height_m: float, length_m: float) -> LineSection:
+    lam = ifa.laminate
+    gap = height_m - ifa.trace_width_m / 2.0
+    return LineSection(
+        length_m=length_m,
+        z0_ohm=float(z0_strip_beside_ground_edge(ifa.trace_width_m, gap, lam.eps_r, lam.thickness_m)),
+        eps_eff=float(
+            eps_eff_strip_beside_ground_edge(ifa.trace_width_m, gap, lam.eps_r, lam.thickness_m)
+        ),
+    )
+
+
+def feed_tap_position_m(ifa: PrintedIfa) -> float:
+    """Arc length along the arm from its start (above the short) to the feed tap.
+
+    The tap is the first point of a segment parallel to the ground edge at ``x = feed_x_m``.
+    """
+    travelled = 0.0
+    for (x0, y0), (x1, y1) in zip(ifa.arm_path_m, ifa.arm_path_m[1:]):
+        seg = math.hypot(x1 - x0, y1 - y0)
+        if abs(y1 - y0) <= LENGTH_EPS_M and min(x0, x1) <= ifa.feed_x_m <= max(x0, x1):
+            return travelled + abs(ifa.feed_x_m - x0)
+        travelled += seg
+    raise SolverError(
+        f"feed_x_m = {ifa.feed_x_m!r}: the feed leg does not meet a segment of the arm parallel "
+        "to the ground edge"
+    )
+
+
+def arm_sections(ifa: PrintedIfa) -> tuple[tuple[LineSection, ...], tuple[LineSection, ...]]:
+    """The arm as line sections: ``(short side from the short to the tap, open side from the tap
+    to the open end)``, both ordered from the short towards the open end."""
+    _check_ifa(ifa)
+    tap = feed_tap_position_m(ifa)
+    short_side: list[LineSection] = []
+    open_side: list[LineSection] = []
+    travelled = 0.0
+    for (x0, y0), (x1, y1) in zip(ifa.arm_path_m, ifa.arm_path_m[1:]):
+        seg = math.hypot(x1 - x0, y1 - y0)
+        if seg <= LENGTH_EPS_M:
+            continue
+        height = 0.5 * (y0 + y1)
+        before = min(max(tap - travelled, 0.0), seg)
+        if before > LENGTH_EPS_M:
+            short_side.append(_line_at_height(ifa, height, before))
+        if seg - before > LENGTH_EPS_M:
+            open_side.append(_line_at_height(ifa, height, seg - before))
+        travelled += seg
+    if not open_side:
+        raise SolverError(f"feed_x_m = {ifa.feed_x_m!r}: the feed taps the arm at its open end")
+    if not short_side:
+        raise SolverError(f"feed_x_m = {ifa.feed_x_m!r}: the feed taps the arm at the short")
+    return tuple(short_side), tuple(open_side)
+
+
+def _gamma(freq_hz: NDArray, section: LineSection, ifa: PrintedIfa, options: TlineIfaOptions):
+    beta = 2.0 * PI * freq_hz * math.sqrt(section.eps_eff) / C0_M_PER_S
+    alpha = (
+        dielectric_attenuation_np_per_m(
+            freq_hz, ifa.laminate.eps_r, section.eps_eff, ifa.laminate.loss_tangent
+        )
+        if options.dielectric_loss
+        else 0.0
+    )
+    return alpha + 1j * beta
+
+
+def transform_impedance(z_load: NDArray, z0_ohm: float, gamma: NDArray, length_m: float):
+    """Input impedance of a line (``z0``, ``gamma``) of length ``l`` loaded by ``z_load``:
+    ``Z0 (ZL + Z0 tanh(gl)) / (Z0 + ZL tanh(gl))`` (Pozar, "Microwave Engineering", 4th ed.
+    2012, eq. (2.91) (from memory))."""
+    t = np.tanh(gamma * length_m)
+    return z0_ohm * (z_load + z0_ohm * t) / (z0_ohm + z_load * t)
+
+
+def _short_side_abcd(freq_hz: NDArray, ifa: PrintedIfa, sections, options):
+    """ABCD matrix (per frequency) of the short side, from the tap to the short end."""
+    a = np.ones_like(freq_hz, dtype=complex)
+    b = np.zeros_like(a)
+    c = np.zeros_like(a)
+    d = np.ones_like(a)
+    for section in reversed(sections):  # tap side first
+        gl = _gamma(freq_hz, section, ifa, options) * section.length_m
+        ch, sh = np.cosh(gl), np.sinh(gl)
+        z0 = section.z0_ohm
+        a, b, c, d = (a * ch + b * sh / z0, a * z0 * sh + b * ch, c * ch + d * sh / z0, c * z0 * sh + d * ch)
+    return a, b, c, d
+
+
+def _open_side_admittance(freq_hz: NDArray, ifa: PrintedIfa, sections, options) -> NDArray:
+    """Admittance of the open side seen from the tap (open end: zero admittance)."""
+    y = np.zeros_like(freq_hz, dtype=complex)
+    for section in reversed(sections):  # from the open end towards the tap
+        # admittances transform like impedances with Y0 = 1/Z0
+        gamma = _gamma(freq_hz, section, ifa, options)
+        y = transform_impedance(y, 1.0 / section.z0_ohm, gamma, section.length_m)
+    return y
+
+
+def _feed_impedance(freq_hz: NDArray, ifa: PrintedIfa, options: TlineIfaOptions) -> NDArray:
+    """Port impedance with the legs as coupled inductors.
+
+    Unit current ``I_f`` up the feed leg; ``I_d`` down the short leg into ground through
+    ``R_rad``.  Short leg: ``V2 = (R + jw Ls) I_d - jw M I_f``; short side line (ABCD):
+    ``V_tap = A V2 + B I_d``, ``I_1 = C V2 + D I_d``; tap: ``I_f = I_1 + Y_open V_tap``;
+    feed leg: ``V = V_tap + jw Lf I_f - jw M I_d``.  With ``Lf = Ls = M`` and no line between
+    the legs the port is shorted, as it must be.
+    """
+    short_side, open_side = arm_sections(ifa)
+    omega = 2.0 * PI * freq_hz
+    legs = leg_inductances(ifa, options)
+    z_short = radiation_resistance_ohm(freq_hz, ifa, options) + 1j * omega * legs.short_h
+    jwm = 1j * omega * legs.mutual_h
+    a, b, c, d = _short_side_abcd(freq_hz, ifa, short_side, options)
+    y_open = _open_side_admittance(freq_hz, ifa, open_side, options)
+    # V_tap = (A z_short + B) I_d - A jwm ;  I_1 = (C z_short + D) I_d - C jwm
+    p_v, q_v = a * z_short + b, -a * jwm
+    p_i, q_i = c * z_short + d, -c * jwm
+    # 1 = I_1 + Y_open V_tap  ->  I_d
+    i_d = (1.0 - q_i - y_open * q_v) / (p_i + y_open * p_v)
+    v_tap = p_v * i_d + q_v
+    return v_tap + 1j * omega * legs.feed_h - jwm * i_d
+
+
+def _check_freq(freq_hz: ArrayLike) -> NDArray[np.float64]:
+    f = np.asarray(freq_hz, dtype=float)
+    if not np.all(np.isfinite(f)) or np.any(f <= 0.0):
+        raise SolverError(f"freq_hz = {freq_hz!r}: frequencies must be finite and > 0")
+    return f
+
+
+# --------------------------------------------------------------------------------------------
+# public model
+# --------------------------------------------------------------------------------------------
+
+
+def zin_tline_ifa(
+    freq_hz: ArrayLike, ifa: PrintedIfa, options: TlineIfaOptions = DEFAULT_OPTIONS
+) -> NDArray[np.complex128]:
+    """Input impedance (ohm) at the feed, vectorised over ``freq_hz``."""
+    return _feed_impedance(_check_freq(freq_hz), ifa, options)
+
+
+def s11_tline_ifa(
+    freq_hz: ArrayLike,
+    ifa: PrintedIfa,
+    z_ref_ohm: float = FEED_REFERENCE_OHM,
+    options: TlineIfaOptions = DEFAULT_OPTIONS,
+) -> NDArray[np.complex128]:
+    """Reflection coefficient at the feed against ``z_ref_ohm``."""
+    z = zin_tline_ifa(freq_hz, ifa, options)
+    return (z - z_ref_ohm) / (z + z_ref_ohm)
+
+
+def quarter_wave_estimate_hz(ifa: PrintedIfa) -> float:
+    """``c / (4 L sqrt(eps_eff))`` with the length-weighted eps_eff of the arm's sections."""
+    sections = [s for side in arm_sections(ifa) for s in side]
+    electrical = sum(s.length_m * math.sqrt(s.eps_eff) for s in sections)
+    return C0_M_PER_S / (4.0 * electrical)
+
+
+def resonance_tline_ifa_hz(ifa: PrintedIfa, options: TlineIfaOptions = DEFAULT_OPTIONS) -> float:
+    """The arm's quarter-wave (parallel) resonance (Hz): the pole of the lossless ``Z_in``
+    (radiation and dielectric loss switched off, so the susceptance ``Im(1/Z_in)`` rises through
+    zero there, Foster's reactance theorem); the crossing nearest the quarter-wave estimate.
+    Raises :class:`SolverError` if the search window holds none."""
+    lossless = replace(options, radiation_resistance_ohm=0.0, dielectric_loss=False)
+    f0 = quarter_wave_estimate_hz(ifa)
+    grid = np.linspace(RESONANCE_SEARCH_LOW * f0, RESONANCE_SEARCH_HIGH * f0, RESONANCE_SEARCH_POINTS)
+
+    def susceptance(f: NDArray) -> NDArray:
+        with np.errstate(divide="ignore", invalid="ignore"):
+            return np.imag(1.0 / _feed_impedance(f, ifa, lossless))
+
+    b = susceptance(grid)
+    rising = np.nonzero((b[:-1] < 0.0) & (b[1:] >= 0.0))[0]
+    if rising.size == 0:
+        raise SolverError(
+            f"arm length {ifa.arm_length_m!r} m: no quarter-wave resonance between "
+            f"{grid[0]:.4g} and {grid[-1]:.4g} Hz"
+        )
+    i = int(rising[np.argmin(np.abs(grid[rising] - f0))])
+    return optimize.brentq(
+        lambda f: float(susceptance(np.array([f]))[0]), grid[i], grid[i + 1], rtol=ROOT_RTOL
+    )
+
+
+def bandwidth_tline_ifa_hz(
+    ifa: PrintedIfa,
+    level_db: float = -10.0,
+    z_ref_ohm: float = FEED_REFERENCE_OHM,
+    options: TlineIfaOptions = DEFAULT_OPTIONS,
+    points: int = 4001,
+) -> tuple[float, float]:
+    """Edges (Hz) of the contiguous band around the best match where ``|S11| <= level_db``.
+
+    Searched on ``points`` samples over the resonance search window; raises
+    :class:`SolverError` when the match never reaches ``level_db``.
+    """
+    f_res = resonance_tline_ifa_hz(ifa, options)
+    f = np.linspace(RESONANCE_SEARCH_LOW * f_res, RESONANCE_SEARCH_HIGH * f_res, points)
+    s11_db = 20.0 * np.log10(np.abs(s11_tline_ifa(f, ifa, z_ref_ohm, options)))
+    below = np.nonzero(s11_db <= level_db)[0]
+    if below.size == 0:
+        raise SolverError(
+            f"level_db = {level_db!r}: the predicted match reaches only {s11_db.min():.3g} dB; "
+            "retune the feed-short spacing"
+        )
+    lo = hi = int(below[np.argmin(np.abs(f[below] - f_res))])
+    while lo > 0 and s11_db[lo - 1] <= level_db:
+        lo -= 1
+    while hi < points - 1 and s11_db[hi + 1] <= level_db:
+        hi += 1
+    if lo == 0 or hi == points - 1:
+        raise SolverError(f"level_db = {level_db!r}: the band reaches the edge of the search window")
+    return _crossing(f, s11_db, lo - 1, lo, level_db), _crossing(f, s11_db, hi, hi + 1, level_db)
+
+
+def _crossing(f: NDArray, y: NDArray, i: int, j: int, level: float) -> float:
+    """Linear interpolation of where ``y`` crosses ``level`` between samples ``i`` and ``j``."""
+    t = (level - y[i]) / (y[j] - y[i])
+    return float(f[i] + t * (f[j] - f[i]))
+
+
+# --------------------------------------------------------------------------------------------
+# synthesis helpers (start points for the optimiser)
+# --------------------------------------------------------------------------------------------
+
+
+def with_arm_length(ifa: PrintedIfa, arm_length_m: float) -> PrintedIfa:
+    """The same IFA with the arm's last segment lengthened or shortened to ``arm_length_m``."""
+    path = list(ifa.arm_path_m)
+    (x0, y0), (x1, y1) = path[-2], path[-1]
+    last = math.hypot(x1 - x0, y1 - y0)
+    new_last = last + arm_length_m - ifa.arm_length_m
+    if new_last <= LENGTH_EPS_M or last <= LENGTH_EPS_M:
+        raise SolverError(
+            f"arm_length_m = {arm_length_m!r}: the arm's last segment ({last!r} m) cannot absorb "
+            f"the change from {ifa.arm_length_m!r} m"
+        )
+    scale = new_last / last
+    path[-1] = (x0 + (x1 - x0) * scale, y0 + (y1 - y0) * scale)
+    return replace(ifa, arm_path_m=tuple(path))
+
+
+def with_feed_short_spacing(ifa: PrintedIfa, spacing_m: float) -> PrintedIfa:
+    """The same IFA with the feed leg moved along the arm's first segment to ``spacing_m``."""
+    (x0, y0), (x1, y1) = ifa.arm_path_m[0], ifa.arm_path_m[1]
+    if abs(y1 - y0) > LENGTH_EPS_M:
+        raise SolverError("arm_path_m: the first segment must run parallel to the ground edge")
+    direction = math.copysign(1.0, x1 - x0)
+    if not 0.0 < spacing_m < abs(x1 - x0):
+        raise SolverError(
+            f"spacing_m = {spacing_m!r}: must lie inside the arm's first segment (0, {abs(x1 - x0)!r})"
+        )
+    return replace(ifa, feed_x_m=ifa.short_x_m + direction * spacing_m)
+
+
+def arm_length_for_resonance_m(
+    freq_hz: float, ifa: PrintedIfa, options: TlineIfaOptions = DEFAULT_OPTIONS
+) -> float:
+    """Arm centreline length (m) that puts the model's resonance at ``freq_hz``, changing only
+    the arm's last segment (:func:`with_arm_length`)."""
+    f_target = float(_check_freq(freq_hz))
+    tap = feed_tap_position_m(ifa)
+    (x0, y0), (x1, y1) = ifa.arm_path_m[-2], ifa.arm_path_m[-1]
+    fixed = ifa.arm_length_m - math.hypot(x1 - x0, y1 - y0)
+    shortest = max(fixed, tap) + 1e-3 * ifa.arm_length_m
+
+    def mismatch(length: float) -> float:
+        return resonance_tline_ifa_hz(with_arm_length(ifa, length), options) / f_target - 1.0
+
+    # Resonance scales roughly as 1/length: bracket around that guess, widening as needed.
+    guess = ifa.arm_length_m * resonance_tline_ifa_hz(ifa, options) / f_target
+    lower, upper = max(shortest, 0.7 * guess), max(1.4 * guess, 1.01 * shortest)
+    for _ in range(8):
+        if mismatch(lower) > 0.0:
+            break
+        if lower <= shortest:
+            raise SolverError(
+                f"freq_hz = {freq_hz!r}: even the shortest arm this layout allows "
+                f"({shortest!r} m) resonates below it"
+            )
+        lower = max(shortest, 0.7 * lower)
+    for _ in range(8):
+        if mismatch(upper) < 0.0:
+            break
+        upper *= 1.4
+    return optimize.brentq(mismatch, lower, upper, rtol=ROOT_RTOL)
+
+
+def feed_short_spacing_for_match_m(
+    ifa: PrintedIfa,
+    z_target_ohm: float = FEED_REFERENCE_OHM,
+    options: TlineIfaOptions = DEFAULT_OPTIONS,
+) -> float:
+    """Feed-short spacing (m, centre to centre) for which ``Re(Z_in) = z_target_ohm`` at the
+    arm's resonance; the feed moves along the arm's first segment
+    (:func:`with_feed_short_spacing`), no closer to the short leg than edge to edge."""
+    (x0, _), (x1, _) = ifa.arm_path_m[0], ifa.arm_path_m[1]
+    first = abs(x1 - x0)
+    # from legs edge to edge (centre spacing = mean width) to the end of the first segment
+    lo, hi = 0.5 * (ifa.trace_width_m + ifa.short_width_m), (1.0 - 1e-3) * first
+    if not lo < hi:
+        raise SolverError(f"arm_path_m: first segment ({first!r} m) too short to hold both legs")
+
+    def mismatch(spacing: float) -> float:
+        trial = with_feed_short_spacing(ifa, spacing)
+        f_res = resonance_tline_ifa_hz(trial, options)
+        return float(np.real(zin_tline_ifa(np.array([f_res]), trial, options))[0]) - z_target_ohm
+
+    m_lo, m_hi = mismatch(lo), mismatch(hi)
+    if m_lo * m_hi > 0.0:
+        raise SolverError(
+            f"z_target_ohm = {z_target_ohm!r}: the resonant resistance spans only "
+            f"{m_lo + z_target_ohm:.4g} to {m_hi + z_target_ohm:.4g} ohm over the arm's first "
+            "segment; change the height or the arm"
+        )
+    return optimize.brentq(mismatch, lo, hi, rtol=ROOT_RTOL)

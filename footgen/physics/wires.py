@@ -1,0 +1,188 @@
+"""Wire models of a printed IFA for the thin-wire solver (:mod:`footgen.physics.mom`).
+
+Copper centrelines become wires of equivalent radius ``a = w / 4`` for a flat strip of width ``w``
+(Balanis, "Antenna Theory", 4th ed., ch. 9, table of equivalent radii of conductors: thin flat
+strip ``a_e = 0.25 w``; from memory).  The ground plane becomes a wire grid of pitch
+``<= lambda / 10`` at the highest frequency (common practice for wire-grid surfaces, no source),
+refined near its radiating edge, with wire radius from the equal-area rule ``2 pi a = pitch``
+(Ludwig, "Wire grid modeling of surfaces", IEEE Trans. Antennas Propag. 35(9), 1987; from memory),
+capped so that segments stay several radii long.  The delta-gap source is the one-segment wire
+across the port gap between the ground edge and the feed leg.  All wires lie in ``z = 0``; the
+laminate is handed to the solver as a :class:`footgen.physics.mom.Slab` under the copper.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from footgen.constants import C0_M_PER_S
+from footgen.errors import SolverError
+from footgen.physics.ifa import PrintedIfa
+from footgen.physics.mom import Slab, Wire, WireModel
+
+STRIP_EQUIVALENT_RADIUS_FACTOR = 0.25  # a = w / 4, Balanis 4th ed. ch. 9 (from memory)
+SEGMENTS_PER_WAVELENGTH = 40.0  # segment <= lambda / 40 (stricter than the lambda / 20 rule)
+DETAIL_SEGMENTS = 4.0  # segments across the smallest antenna feature (height, leg spacing)
+GRID_PITCH_PER_WAVELENGTH = 10.0  # ground grid pitch <= lambda / 10 (common practice, no source)
+EDGE_ROW_FACTOR = 1.0  # first grid rows below the edge at this many antenna heights
+GRID_GROWTH = 2.0  # grid rows grow geometrically from the edge up to the pitch
+MIN_SEGMENT_TO_GRID_RADIUS = 4.0  # grid-wire radius capped at segment length / 4
+GEOMETRY_TOL_M = 1e-9
+
+
+@dataclass(frozen=True)
+class MeshControl:
+    """Segmentation limits for one wire model (all lengths in metres)."""
+
+    f_max_hz: float
+    segments_per_wavelength: float = SEGMENTS_PER_WAVELENGTH
+    detail_segments: float = DETAIL_SEGMENTS
+    grid_pitch_per_wavelength: float = GRID_PITCH_PER_WAVELENGTH
+
+    @property
+    def wavelength_m(self) -> float:
+        return C0_M_PER_S / self.f_max_hz
+
+    @property
+    def max_segment_m(self) -> float:
+        return self.wavelength_m / self.segments_per_wavelength
+
+    @property
+    def grid_pitch_m(self) -> float:
+        return self.wavelength_m / self.grid_pitch_per_wavelength
+
+
+def strip_equivalent_radius_m(width_m: float) -> float:
+    """Equivalent wire radius of a thin flat strip: ``0.25 w`` (Balanis 4th ed. ch. 9, from memory)."""
+    return STRIP_EQUIVALENT_RADIUS_FACTOR * width_m
+
+
+def equal_area_grid_radius_m(pitch_m: float) -> float:
+    """Wire-grid radius by the equal-area rule ``2 pi a = pitch`` (Ludwig 1987, from memory)."""
+    return pitch_m / (2.0 * math.pi)
+
+
+def _n_segments(length_m: float, max_segment_m: float) -> int:
+    return max(1, int(math.ceil(length_m / max_segment_m - 1e-9)))
+
+
+def _straight(p0: tuple[float, float], p1: tuple[float, float], max_seg_m: float, radius_m: float,
+              perimeter_m: float = 0.0) -> Wire:
+    length = math.hypot(p1[0] - p0[0], p1[1] - p0[1])
+    return Wire((p0[0], p0[1], 0.0), (p1[0], p1[1], 0.0), _n_segments(length, max_seg_m), radius_m, perimeter_m)
+
+
+def arm_point_above_x(ifa: PrintedIfa, x_m: float) -> tuple[int, float]:
+    """Index of the first horizontal arm piece spanning ``x_m`` and its centreline ``y``."""
+    path = ifa.arm_path_m
+    for i, ((x0, y0), (x1, y1)) in enumerate(zip(path, path[1:])):
+        if abs(y1 - y0) < GEOMETRY_TOL_M and min(x0, x1) - GEOMETRY_TOL_M <= x_m <= max(x0, x1) + GEOMETRY_TOL_M:
+            return i, y0
+    raise SolverError(f"feed_x_m = {x_m!r}: no horizontal arm piece passes above the feed leg; move the feed")
+
+
+def _arm_polyline_with_feed(ifa: PrintedIfa) -> tuple[list[tuple[float, float]], tuple[float, float]]:
+    """Arm vertices with the feed-leg junction inserted (once, on the first piece above it)."""
+    piece, y_arm = arm_point_above_x(ifa, ifa.feed_x_m)
+    junction = (ifa.feed_x_m, y_arm)
+    pts = [tuple(p) for p in ifa.arm_path_m]
+    a, b = pts[piece], pts[piece + 1]
+    if math.dist(a, junction) < GEOMETRY_TOL_M or math.dist(b, junction) < GEOMETRY_TOL_M:
+        return pts, junction
+    return pts[: piece + 1] + [junction] + pts[piece + 1 :], junction
+
+
+def _graded_lines(start_m: float, stop_m: float, fine_m: float, pitch_m: float) -> list[float]:
+    """Grid lines from ``start`` towards ``stop`` (either direction): first step ``fine``, growing by
+    ``GRID_GROWTH`` up to ``pitch``, the last gap stretched or merged to end exactly at ``stop``."""
+    direction = 1.0 if stop_m > start_m else -1.0
+    total = abs(stop_m - start_m)
+    lines = [0.0]
+    step = min(fine_m, pitch_m)
+    while lines[-1] + step < total - 0.5 * step:
+        lines.append(lines[-1] + step)
+        step = min(step * GRID_GROWTH, pitch_m)
+    lines.append(total)
+    return [start_m + direction * v for v in lines]
+
+
+def _merge_required(uniform: list[float], required: list[float], min_gap_m: float) -> list[float]:
+    """Union of grid coordinates, dropping uniform ones closer than ``min_gap`` to a required one."""
+    kept = [u for u in uniform if all(abs(u - r) >= min_gap_m for r in required)]
+    return sorted(set(np.round(np.array(kept + required) / GEOMETRY_TOL_M).astype(np.int64).tolist()))
+
+
+def ground_grid_wires(ifa: PrintedIfa, control: MeshControl, detail_m: float) -> list[Wire]:
+    """Wire grid of the ground plane (``y <= 0``) with lines at the feed and short legs."""
+    g = ifa.ground
+    pitch = min(control.grid_pitch_m, g.width_m, g.length_m)
+    fine = min(pitch, EDGE_ROW_FACTOR * ifa.height_m)
+    ys = _graded_lines(0.0, -g.length_m, fine, pitch)
+    arm_x = [p[0] for p in ifa.arm_path_m] + [ifa.feed_x_m, ifa.short_x_m]
+    x_lo, x_hi = max(g.x_min_m, min(arm_x)), min(g.x_max_m, max(arm_x))
+    uniform = [g.x_min_m + i * g.width_m / max(1, math.ceil(g.width_m / pitch)) for i in range(int(math.ceil(g.width_m / pitch)) + 1)]
+    required = [g.x_min_m, g.x_max_m, ifa.feed_x_m, ifa.short_x_m]
+    for x in (ifa.feed_x_m, ifa.short_x_m):
+        if not (g.x_min_m - GEOMETRY_TOL_M <= x <= g.x_max_m + GEOMETRY_TOL_M):
+            raise SolverError(f"leg x = {x!r} m lies outside the ground plane; move the leg onto the ground edge")
+    xs = [k * GEOMETRY_TOL_M for k in _merge_required(uniform, required, 0.5 * fine)]
+    wires: list[Wire] = []
+    # horizontal wires (along x) on every row, split at every column
+    for row, y in enumerate(ys):
+        for x0, x1 in zip(xs, xs[1:]):
+            on_edge_near = row == 0 and x1 > x_lo - pitch and x0 < x_hi + pitch
+            max_seg = detail_m if on_edge_near else min(pitch, control.max_segment_m)
+            n = _n_segments(x1 - x0, max_seg)
+            radius = min(equal_area_grid_radius_m(pitch), (x1 - x0) / n / MIN_SEGMENT_TO_GRID_RADIUS)
+            wires.append(Wire((x0, y, 0.0), (x1, y, 0.0), n, radius))
+    # vertical wires (along y) on every column, split at every row
+    for x in xs:
+        for y0, y1 in zip(ys, ys[1:]):
+            n = _n_segments(abs(y1 - y0), min(pitch, control.max_segment_m))
+            radius = min(equal_area_grid_radius_m(pitch), abs(y1 - y0) / n / MIN_SEGMENT_TO_GRID_RADIUS)
+            wires.append(Wire((x, y0, 0.0), (x, y1, 0.0), n, radius))
+    return wires
+
+
+def antenna_wires(ifa: PrintedIfa, control: MeshControl) -> tuple[list[Wire], float]:
+    """Source, feed leg, short leg and arm wires; returns ``(wires, detail_m)`` with the source first."""
+    if ifa.port_gap_m <= 0.0 or ifa.port_gap_m >= ifa.height_m:
+        raise SolverError(f"port_gap_m = {ifa.port_gap_m!r}: must lie between 0 and the arm height")
+    arm, junction = _arm_polyline_with_feed(ifa)
+    detail = min(control.max_segment_m,
+                 min(ifa.height_m, max(ifa.feed_short_spacing_m, GEOMETRY_TOL_M)) / control.detail_segments)
+    a_trace = strip_equivalent_radius_m(ifa.trace_width_m)
+    a_short = strip_equivalent_radius_m(ifa.short_width_m)
+    t_cu = ifa.laminate.copper_thickness_m
+    per_trace = 2.0 * (ifa.trace_width_m + t_cu)
+    per_short = 2.0 * (ifa.short_width_m + t_cu)
+    wires = [
+        Wire((ifa.feed_x_m, 0.0, 0.0), (ifa.feed_x_m, ifa.port_gap_m, 0.0), 1, a_trace, per_trace),
+        _straight((ifa.feed_x_m, ifa.port_gap_m), junction, detail, a_trace, per_trace),
+        _straight((ifa.short_x_m, 0.0), arm[0], detail, a_short, per_short),
+    ]
+    for p0, p1 in zip(arm, arm[1:]):
+        wires.append(_straight(p0, p1, detail, a_trace, per_trace))
+    return wires, detail
+
+
+def ifa_wire_model(ifa: PrintedIfa, f_max_hz: float, with_ground: bool = True, with_laminate: bool = True,
+                   with_loss: bool = True, control: MeshControl | None = None) -> WireModel:
+    """Wire model of a printed IFA: antenna wires, ground grid, source and laminate slab.
+
+    ``with_laminate=False`` gives the free-space model, ``with_loss=False`` lossless copper.
+    """
+    if not (f_max_hz > 0.0):
+        raise SolverError(f"f_max_hz = {f_max_hz!r}: must be a positive frequency")
+    control = control or MeshControl(f_max_hz=f_max_hz)
+    wires, detail = antenna_wires(ifa, control)
+    if not with_loss:
+        wires = [Wire(w.start_m, w.end_m, w.n_segments, w.radius_m) for w in wires]
+    if with_ground:
+        wires += ground_grid_wires(ifa, control, detail)
+    lam = ifa.laminate
+    slab = Slab(lam.eps_r, lam.thickness_m, lam.loss_tangent) if with_laminate else None
+    return WireModel(tuple(wires), source_wire=0, source_segment=0, slab=slab)

@@ -1,0 +1,1 @@
+"""The spec JSON Schema, shipped as package data (footgen.schemas)."""

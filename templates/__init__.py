@@ -1,0 +1,1 @@
+"""Starter spec templates, shipped as package data (footgen.templates)."""

@@ -1,0 +1,46 @@
+"""Solve a footgen thin-wire model with nec2++ (PyPI ``PyNEC``): the outside reference for the
+MoM tests and benchmark.  Same wires, same segmentation, same source segment; free space, lossless.
+
+Test/benchmark dependency only; footgen itself never imports PyNEC.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import PyNEC
+
+from footgen.physics.mom import WireModel
+
+HZ_PER_MHZ = 1e6
+
+
+def _context(model: WireModel) -> PyNEC.nec_context:
+    if model.slab is not None:
+        raise ValueError("nec2++ reference runs free-space models only (slab = None)")
+    ctx = PyNEC.nec_context()
+    geo = ctx.get_geometry()
+    for tag, wire in enumerate(model.wires, start=1):
+        geo.wire(tag, wire.n_segments, *wire.start_m, *wire.end_m, wire.radius_m, 1.0, 1.0)
+    ctx.geometry_complete(0)
+    ctx.gn_card(-1, 0, 0, 0, 0, 0, 0, 0)  # free space
+    ctx.ex_card(0, model.source_wire + 1, model.source_segment + 1, 0, 1.0, 0.0, 0.0, 0.0, 0.0, 0.0)
+    return ctx
+
+
+def nec2_zin_ohm(model: WireModel, freqs_hz: np.ndarray) -> np.ndarray:
+    """nec2++ input impedance at the model's source for each frequency (one XQ per frequency)."""
+    ctx = _context(model)
+    out = np.empty(len(freqs_hz), complex)
+    for i, f in enumerate(np.asarray(freqs_hz, float)):
+        ctx.fr_card(0, 1, f / HZ_PER_MHZ, 0.0)
+        ctx.xq_card(0)
+        out[i] = ctx.get_input_parameters(i).get_impedance()[0]
+    return out
+
+
+def nec2_zin_uniform_ohm(model: WireModel, f_start_hz: float, f_step_hz: float, n_freqs: int) -> np.ndarray:
+    """nec2++ input impedance over a uniform sweep given by one FR card."""
+    ctx = _context(model)
+    ctx.fr_card(0, n_freqs, f_start_hz / HZ_PER_MHZ, f_step_hz / HZ_PER_MHZ)
+    ctx.xq_card(0)
+    return np.array([ctx.get_input_parameters(i).get_impedance()[0] for i in range(n_freqs)])

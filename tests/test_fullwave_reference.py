@@ -1,0 +1,181 @@
+"""Stored openEMS full-wave results for the printed IFA cases, and our predictor checked against them.
+
+Outside truth: openEMS (Debian package ``openems`` 0.0.35+git20190103, FDTD), solved by
+``tests/fullwave/openems_ifa.py`` and stored in ``tests/fullwave/results/<case>.json``.
+"""
+
+from __future__ import annotations
+
+import importlib.util
+import json
+import os
+import sys
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+FULLWAVE_DIR = Path(__file__).resolve().parent / "fullwave"
+
+# Allowed error of our resonance prediction against openEMS (task requirement, +-3 %).
+RESONANCE_REL_TOL = 0.03
+# Stored derived figures must match the stored curve to float round-off.
+SELF_CONSISTENCY_REL_TOL = 1e-9
+# -10 dB band edges are interpolated linearly in dB between grid points; the curve at the edge
+# must read -10 dB within this (dB).
+BAND_EDGE_DB_TOL = 1e-6
+# Coarse-mesh rerun vs stored result: the coarse mesh (w/4 at copper edges) may differ from the
+# stored mesh by this much in f_res (/work/shared/notes/openems-0.0.35.md measured 0.13 % for
+# w/4 -> w/8 on a strip; we allow the grid step of the stored sweep on top).
+COARSE_RERUN_REL_TOL = 0.01
+SLOW_CASE = "dev_straight_16"
+# Mesh convergence of the stored references: coarse (w/4 at copper edges) vs the stored mesh.
+# The openEMS notes (/work/shared/notes/openems-0.0.35.md) measured 0.13 % for w/4 -> w/8 on a
+# printed strip; we require the resonance within 0.5 % and the -10 dB band edges within 1 %.
+MESH_CONVERGENCE_REL_TOL = 0.005
+MESH_CONVERGENCE_BAND_REL_TOL = 0.01
+CONVERGENCE_DIR = FULLWAVE_DIR / "convergence"
+
+
+def _load_module(name: str):
+    spec = importlib.util.spec_from_file_location(name, FULLWAVE_DIR / f"{name}.py")
+    module = importlib.util.module_from_spec(spec)
+    sys.modules[name] = module
+    spec.loader.exec_module(module)
+    return module
+
+
+ifa_cases = _load_module("ifa_cases")
+CASES = ifa_cases.load_cases()
+CASE_IDS = [c["name"] for c in CASES]
+VALIDATION = [c for c in CASES if c["role"] == "validation"]
+
+
+def _result(name: str) -> dict:
+    path = ifa_cases.result_path(name)
+    assert path.exists(), f"no stored openEMS result {path}; run tests/fullwave/openems_ifa.py"
+    with open(path, encoding="utf-8") as handle:
+        return json.load(handle)
+
+
+def _curve(result: dict) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    freqs = np.array(result["freq_hz"])
+    s11 = np.array(result["s11_re"]) + 1j * np.array(result["s11_im"])
+    zin = np.array(result["zin_re"]) + 1j * np.array(result["zin_im"])
+    return freqs, s11, zin
+
+
+def test_case_set_is_as_specified() -> None:
+    """At least 6 cases, >= 4 straight and >= 2 meandered, exactly 2 development cases."""
+    roles = [c["role"] for c in CASES]
+    assert roles.count("development") == 2
+    assert roles.count("validation") == len(CASES) - 2
+    n_meander = sum(len(c["arm_path_mm"]) > 2 for c in CASES)
+    assert len(CASES) >= 6 and n_meander >= 2 and len(CASES) - n_meander >= 4
+    assert len(set(CASE_IDS)) == len(CASE_IDS)
+
+
+@pytest.mark.parametrize("case", CASES, ids=CASE_IDS)
+def test_stored_result_matches_case_inputs(case: dict) -> None:
+    """A stored result records the inputs it was solved for; any edit of cases.json makes it stale."""
+    result = _result(case["name"])
+    assert result["case"] == case, "stored openEMS result is stale: rerun openems_ifa.py"
+    assert result["source"].startswith("openEMS")
+    ifa_cases.case_to_ifa(case)  # the case converts to the SI model
+
+
+@pytest.mark.parametrize("case", CASES, ids=CASE_IDS)
+def test_stored_curve_is_self_consistent(case: dict) -> None:
+    """Derived figures (f_res, Im Zin zero, -10 dB band) agree with the stored curves."""
+    result = _result(case["name"])
+    freqs, s11, zin = _curve(result)
+    derived = result["derived"]
+    f_lo, f_hi = ifa_cases.sweep_band_hz(case)
+    assert freqs[0] == pytest.approx(f_lo) and freqs[-1] == pytest.approx(f_hi)
+    assert np.all(np.diff(freqs) > 0)
+    # passive one-port: |S11| <= 1 and Re(Zin) >= 0
+    assert np.all(np.abs(s11) <= 1.0 + 1e-6)
+    assert np.all(zin.real >= -1e-6)
+    # S11 and Zin describe the same port (50 ohm reference)
+    z_from_s = 50.0 * (1 + s11) / (1 - s11)
+    np.testing.assert_allclose(z_from_s, zin, rtol=1e-6, atol=1e-6)
+    s11_db = 20 * np.log10(np.abs(s11))
+    i_min = int(np.argmin(s11_db))
+    assert derived["f_res_hz"] == pytest.approx(freqs[i_min], rel=SELF_CONSISTENCY_REL_TOL)
+    assert derived["s11_min_db"] == pytest.approx(s11_db[i_min], rel=SELF_CONSISTENCY_REL_TOL)
+    # the resonance lies inside the sweep, not at its end
+    assert 0 < i_min < freqs.size - 1
+    f_zero = derived["f_im_zin_zero_hz"]
+    if f_zero is not None:
+        i = int(np.searchsorted(freqs, f_zero))
+        assert np.sign(zin.imag[i - 1]) != np.sign(zin.imag[i])
+    band = derived["band_10db_hz"]
+    if s11_db[i_min] < -10.0:
+        assert band is not None
+        assert band["f_lo_hz"] < derived["f_res_hz"] < band["f_hi_hz"]
+        inside = (freqs > band["f_lo_hz"]) & (freqs < band["f_hi_hz"])
+        assert np.all(s11_db[inside] < -10.0)
+        for edge in (band["f_lo_hz"], band["f_hi_hz"]):
+            if freqs[0] < edge < freqs[-1]:
+                assert np.interp(edge, freqs, s11_db) == pytest.approx(-10.0, abs=BAND_EDGE_DB_TOL)
+    else:
+        assert band is None
+
+
+def test_mesh_convergence_of_stored_results() -> None:
+    """Every stored coarse-mesh rerun agrees with the stored result of the same case inputs."""
+    coarse_paths = sorted(CONVERGENCE_DIR.glob("*_coarse.json"))
+    assert coarse_paths, f"no coarse-mesh convergence records in {CONVERGENCE_DIR}"
+    for path in coarse_paths:
+        with open(path, encoding="utf-8") as handle:
+            coarse = json.load(handle)
+        name = coarse["case"]["name"]
+        stored = _result(name)
+        assert coarse["case"] == stored["case"], f"{path.name} is stale"
+        assert coarse["metadata"]["cells"] < stored["metadata"]["cells"]
+        f_fine = stored["derived"]["f_res_hz"]
+        f_coarse = coarse["derived"]["f_res_hz"]
+        # source: openEMS 0.0.35 (Debian package, FDTD) on two meshes of the same model
+        assert f_coarse == pytest.approx(f_fine, rel=MESH_CONVERGENCE_REL_TOL), name
+        band_f, band_c = stored["derived"]["band_10db_hz"], coarse["derived"]["band_10db_hz"]
+        assert (band_f is None) == (band_c is None), name
+        if band_f is not None:
+            for key in ("f_lo_hz", "f_hi_hz"):
+                assert band_c[key] == pytest.approx(band_f[key], rel=MESH_CONVERGENCE_BAND_REL_TOL)
+
+
+def test_predicted_resonance_within_3_percent_of_openems(record_property) -> None:
+    """footgen's resonance prediction vs openEMS full-wave, on the held-out validation cases."""
+    from footgen.physics.predict import resonance_hz
+
+    rows = []
+    for case in VALIDATION:
+        result = _result(case["name"])
+        ifa = ifa_cases.case_to_ifa(case)
+        f_lo, f_hi = ifa_cases.sweep_band_hz(case)
+        f_pred = resonance_hz(ifa, f_lo, f_hi)
+        f_ref = result["derived"]["f_res_hz"]
+        rows.append((case["name"], f_pred, f_ref, f_pred / f_ref - 1.0))
+    worst = max(rows, key=lambda r: abs(r[3]))
+    lines = [f"{n}: predicted {p / 1e6:.1f} MHz, openEMS {r / 1e6:.1f} MHz, error {e:+.2%}"
+             for n, p, r, e in rows]
+    print("\n".join(lines) + f"\nworst: {worst[0]} {worst[3]:+.2%}")
+    record_property("worst_resonance_error", f"{worst[0]} {worst[3]:+.4f}")
+    # source: openEMS 0.0.35 (Debian package, FDTD) stored results, f at min |S11|
+    assert abs(worst[3]) <= RESONANCE_REL_TOL, "\n".join(lines)
+
+
+@pytest.mark.slow
+@pytest.mark.skipif(os.environ.get("FOOTGEN_SLOW") != "1", reason="set FOOTGEN_SLOW=1 (openEMS run)")
+def test_coarse_rerun_reproduces_stored_result(tmp_path: Path) -> None:
+    """Rerun one case with openEMS on the coarse mesh and compare with the stored result."""
+    driver = _load_module("openems_ifa")
+    case = ifa_cases.case_by_name(SLOW_CASE)
+    stored = _result(SLOW_CASE)
+    driver.SIM_ROOT = tmp_path / "sim"
+    rerun = driver.solve_case(case, "coarse")
+    f_stored = stored["derived"]["f_res_hz"]
+    f_rerun = rerun["derived"]["f_res_hz"]
+    # source: openEMS 0.0.35 (Debian package, FDTD), same model on the coarse mesh
+    assert f_rerun == pytest.approx(f_stored, rel=COARSE_RERUN_REL_TOL)
+    assert rerun["case"] == stored["case"]
