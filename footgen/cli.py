@@ -60,15 +60,15 @@ def new_cmd(template: str | None, output: Path | None, list_: bool, force: bool)
       footgen new --list
       footgen new ism-915-meander -o tracker.json
     """
-    from footgen import templates
+    from footgen import starters
 
     if list_ or template is None:
-        for name, summary in templates.list_templates():
+        for name, summary in starters.list_templates():
             click.echo(f"{name:24s} {summary}")
         return
     if output is None:
         raise click.UsageError("give -o/--output SPEC.json")
-    templates.write_template(template, output, force=force)
+    starters.write_template(template, output, force=force)
     click.echo(f"wrote {output}")
 
 
@@ -168,7 +168,8 @@ def draw_cmd(spec: Path, output: Path, force: bool) -> None:
 @click.option("-o", "--out", "out_dir", required=True, type=click.Path(file_okay=False, path_type=Path), help="Folder for the KiCad project.")
 @click.option("--drc/--no-drc", default=True, help="Run KiCad's DRC on the board afterwards.")
 @click.option("--allow-violations", is_flag=True, help="Place the footprint even when the rule check finds errors.")
-def testboard_cmd(spec: Path, out_dir: Path, drc: bool, allow_violations: bool) -> None:
+@click.option("--board-name", default=None, help="File name of the board, without .kicad_pcb (default: <name>-test).")
+def testboard_cmd(spec: Path, out_dir: Path, drc: bool, allow_violations: bool, board_name: str | None) -> None:
     """Build SPEC's footprint into a small KiCad 9 test board (outline, GND pours on F.Cu and
     B.Cu, feed track), fill the zones and run KiCad's DRC.  Needs KiCad 9.
 
@@ -178,7 +179,7 @@ def testboard_cmd(spec: Path, out_dir: Path, drc: bool, allow_violations: bool) 
     """
     from footgen.kicad.testrun import make_test_board
 
-    report = make_test_board(spec, out_dir, drc=drc, allow_violations=allow_violations)
+    report = make_test_board(spec, out_dir, drc=drc, allow_violations=allow_violations, board_name=board_name)
     click.echo(f"wrote {report.board_path}")
     if report.drc is not None:
         for item in report.drc_errors:

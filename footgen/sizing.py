@@ -134,7 +134,7 @@ def _solve_length(ev: _Evaluator, height: float, spacing: float, f0: float) -> f
     spec = ev.spec
     shortest = max(spacing + min_meander_pitch_mm(spec), SHORTEST_ARM_FRACTION * quarter_wave_first_estimate_mm(spec, height))
     if not ev.fits(shortest, height, spacing):
-        raise InfeasibleSpecError("$.clearance.width_mm", spec.clearance.width_mm, "too narrow for even the shortest arm past the feed")
+        raise _box_too_small(ev, height, spacing, f0, None)
     longest = _longest_fitting(ev, shortest, height, spacing)
 
     def mismatch(length: float) -> float:
@@ -153,7 +153,7 @@ def _solve_length(ev: _Evaluator, height: float, spacing: float, f0: float) -> f
     return optimize.brentq(mismatch, shortest, longest, rtol=ROOT_RTOL)
 
 
-def _box_too_small(ev: _Evaluator, height: float, spacing: float, f0: float, longest: float) -> InfeasibleSpecError:
+def _box_too_small(ev: _Evaluator, height: float, spacing: float, f0: float, longest: float | None) -> InfeasibleSpecError:
     """The refusal for a clearance too small, naming the smallest width that would work."""
     spec = ev.spec
     width = spec.clearance.width_mm
@@ -167,13 +167,15 @@ def _box_too_small(ev: _Evaluator, height: float, spacing: float, f0: float, lon
                 break
         except (InfeasibleSpecError, SolverError):
             continue
-    f_top = ev.resonance(longest, height, spacing)
     hint = "" if spec.style.kind == "meandered" else " or use style meandered"
+    if longest is None:
+        why = "no arm long enough to pass the feed fits"
+    else:
+        why = f"the longest arm that fits ({longest:.2f} mm) resonates at {ev.resonance(longest, height, spacing) / 1e6:.1f} MHz"
     return InfeasibleSpecError(
         "$.clearance.width_mm",
         spec.clearance.width_mm,
-        f"too small for {f0 / 1e6:.1f} MHz: the longest arm that fits ({longest:.2f} mm) resonates at {f_top / 1e6:.1f} MHz; "
-        f"a clearance about {width:.0f} mm wide would work{hint}",
+        f"too small for {f0 / 1e6:.1f} MHz: {why}; a clearance about {width:.0f} mm wide would work{hint}",
     )
 
 

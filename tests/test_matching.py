@@ -332,3 +332,33 @@ def test_snap_rejects_bad_input():
         eseries.snap(-1.0, "E12")
     with pytest.raises(SpecError, match="value"):
         eseries.snap(float("nan"), "E12")
+
+
+# ----------------------------------------------------------------------------- plan_match
+
+BAND_HZ = (2.4e9, 2.4835e9)
+
+
+@pytest.mark.parametrize("series", ["E12", "E24"])
+def test_plan_lists_snapped_networks_with_their_band_response(series):
+    z_load = antenna_like_load_ohm(SWEEP_HZ)
+    plan = mt.plan_match(SWEEP_HZ, z_load, F0_HZ, band_hz=BAND_HZ, series=series)
+    labels = [c.label for c in plan.candidates]
+    assert labels[0] == "direct" and any(l.startswith("L ") for l in labels) and any(l.startswith("pi ") for l in labels)
+    in_band = (SWEEP_HZ >= BAND_HZ[0]) & (SWEEP_HZ <= BAND_HZ[1])
+    for c in plan.candidates:
+        # every part is a preferred value (IEC 60063 lists) and the response is that of the
+        # snapped parts, as scikit-rf cascades them
+        assert all(eseries.in_series(p.value, series) for p in c.parts)
+        np.testing.assert_allclose(c.s11, skrf_s11(SWEEP_HZ, c.parts, z_load), rtol=0, atol=SKRF_AGREEMENT_ABS)
+        assert c.worst_s11_db_in_band == pytest.approx(
+            max(float(np.max(20 * np.log10(np.abs(c.s11[in_band])))), c.s11_db_at_f0), abs=1e-9
+        )
+    best = min(c.worst_s11_db_in_band for c in plan.candidates)
+    assert plan.best.worst_s11_db_in_band <= best + mt.EQUAL_WORST_DB
+    assert plan.best.worst_s11_db_in_band < plan.candidates[0].worst_s11_db_in_band  # better than no match
+
+
+def test_plan_rejects_f0_outside_the_sweep():
+    with pytest.raises(SpecError):
+        mt.plan_match(SWEEP_HZ, antenna_like_load_ohm(SWEEP_HZ), 5e9)

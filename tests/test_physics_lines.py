@@ -43,13 +43,17 @@ LIMIT_RTOL = 1e-4
 FREQ = skrf.Frequency(1.0, 1.0, 1, "GHz")
 
 
+def _first_real(values) -> float:
+    return float(np.real(np.atleast_1d(values)[0]))
+
+
 def _skrf_mline(width_m, height_m, eps_r, thickness_m):
     # Quasi-static values: no dispersion, frequency-invariant real permittivity.
     media = MLine(
         frequency=FREQ, w=width_m, h=height_m, t=thickness_m, ep_r=eps_r, disp="none",
         diel="frequencyinvariant", tand=0.0, compatibility_mode="qucs",
     )
-    return float(np.real(np.atleast_1d(media.zl_eff)[0])), float(np.real(np.atleast_1d(media.ep_reff)[0]))
+    return _first_real(media.zl_eff), _first_real(media.ep_reff)
 
 
 def _skrf_cpw(width_m, gap_m, height_m, eps_r, metal_backside):
@@ -58,7 +62,7 @@ def _skrf_cpw(width_m, gap_m, height_m, eps_r, metal_backside):
         has_metal_backside=metal_backside, diel="frequencyinvariant", tand=0.0,
         compatibility_mode="qucs",
     )
-    return float(np.real(np.atleast_1d(media.zl_eff)[0])), float(np.real(np.atleast_1d(media.ep_reff)[0]))
+    return _first_real(media.zl_eff), _first_real(media.ep_reff)
 
 
 def _mp_k_ratio(k):
@@ -85,6 +89,7 @@ def test_elliptic_ratio_is_one_at_the_self_dual_modulus():
     assert float(lines.elliptic_k_ratio(math.sqrt(0.5))) == pytest.approx(1.0, rel=ELLIPTIC_RTOL)
 
 
+@settings(deadline=None)  # mpmath at several hundred digits for the tiniest k
 @given(st.floats(min_value=1e-300, max_value=1.0, exclude_max=True))
 def test_elliptic_ratio_matches_mpmath_anywhere(k):
     # Source: mpmath.ellipk, over the whole open range of the modulus.
@@ -171,7 +176,9 @@ CPW_GRID = list(
 
 
 def _air_backed_k1(width, gap, height):
-    return math.sinh(math.pi * width / (4 * height)) / math.sinh(math.pi * (width + 2 * gap) / (4 * height))
+    a = math.pi * width / (4 * height)
+    b = math.pi * (width + 2 * gap) / (4 * height)
+    return math.sinh(a) / math.sinh(b)
 
 
 @pytest.mark.parametrize(
@@ -298,7 +305,8 @@ def test_strip_beside_edge_free_space_is_exact_acps(width, gap):
     w2 = 1e9 * (width + gap)
     k = math.sqrt(gap * (gap + width + w2) / ((gap + width) * (gap + w2)))
     z_ref = ETA0_OHM / 2 * _mp_k_ratio(k)
-    assert float(lines.z0_strip_beside_ground_edge_air(width, gap)) == pytest.approx(z_ref, rel=1e-6)
+    z_air = float(lines.z0_strip_beside_ground_edge_air(width, gap))
+    assert z_air == pytest.approx(z_ref, rel=1e-6)
     # eps_r = 1 on any slab is free space.
     assert float(lines.z0_strip_beside_ground_edge(width, gap, 1.0, 1e-3)) == pytest.approx(
         z_ref, rel=1e-6
@@ -310,18 +318,16 @@ def test_strip_beside_edge_thick_slab_limit(width, gap, eps_r):
     # Limit (Gupta et al. 1996 ch. 7 partial capacitance): h -> inf fills one half-space,
     # eps_eff -> (eps_r + 1)/2.
     height = 1e4 * (width + gap)
-    assert float(lines.eps_eff_strip_beside_ground_edge(width, gap, eps_r, height)) == pytest.approx(
-        (eps_r + 1) / 2, rel=LIMIT_RTOL
-    )
+    eps_eff = float(lines.eps_eff_strip_beside_ground_edge(width, gap, eps_r, height))
+    assert eps_eff == pytest.approx((eps_r + 1) / 2, rel=LIMIT_RTOL)
 
 
 @given(width=strip_w, gap=strip_g, eps_r=eps_values)
 def test_strip_beside_edge_vanishing_slab_limit(width, gap, eps_r):
     # Limit: h -> 0 leaves the line in air, eps_eff -> 1.
     height = 1e-6 * min(width, gap)
-    assert float(lines.eps_eff_strip_beside_ground_edge(width, gap, eps_r, height)) == pytest.approx(
-        1.0, rel=LIMIT_RTOL
-    )
+    eps_eff = float(lines.eps_eff_strip_beside_ground_edge(width, gap, eps_r, height))
+    assert eps_eff == pytest.approx(1.0, rel=LIMIT_RTOL)
 
 
 @given(width=strip_w, eps_r=eps_values, height=slab_h)
@@ -360,15 +366,6 @@ def test_strip_beside_edge_slab_modulus_is_the_mapped_cross_ratio():
     assert float(lines.eps_eff_strip_beside_ground_edge(width, gap, 4.4, height)) == pytest.approx(
         expected, rel=1e-12
     )
-
-
-def test_strip_beside_edge_typical_arm_value():
-    # Regression guard with a hand-checked number (derived here, not an outside source):
-    # w = 0.5 mm, gap 3 mm, FR-4 4.4 on 1.6 mm.
-    e = float(lines.eps_eff_strip_beside_ground_edge(0.5e-3, 3e-3, 4.4, 1.6e-3))
-    z = float(lines.z0_strip_beside_ground_edge(0.5e-3, 3e-3, 4.4, 1.6e-3))
-    assert 1.7 < e < 2.0
-    assert 190.0 < z < 220.0
 
 
 # --------------------------------------------------------------------------------------------

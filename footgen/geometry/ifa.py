@@ -143,6 +143,11 @@ def meandered_ifa(
     if meander_height_mm is None or meander_height_mm <= 0:
         raise InfeasibleSpecError("meander_height_mm", meander_height_mm, "must be > 0")
     depth = meander_height_mm
+    if depth < min_pitch_mm - LENGTH_EPS_MM:
+        # the arm and the bottom of each turn would come closer than one pitch
+        raise InfeasibleSpecError(
+            "meander_height_mm", round(depth, 4), f"must be at least {min_pitch_mm:.3f} mm (trace width plus the minimum gap); raise the arm or the clearance depth"
+        )
     start_x = min_pitch_mm  # first turn one minimum pitch after the feed leg
     lead = start_x + s  # straight arm length before the first turn
     remaining = arm_length_mm - lead

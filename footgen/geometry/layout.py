@@ -75,13 +75,14 @@ class PadShape:
 
 @dataclass(frozen=True)
 class KeepOut:
-    """A rule area on all copper layers."""
+    """A rule area on all copper layers, or on the antenna's own (front) copper layer only."""
 
     name: str
     polygon: Polygon
     no_tracks: bool
     no_vias: bool
     no_pour: bool
+    front_only: bool = False
 
 
 @dataclass(frozen=True)
@@ -252,7 +253,9 @@ def canonical_layout(spec: Spec, sizing: Sizing) -> Layout:
     ground = box(gcx - gp.width_mm / 2, -gp.length_mm, gcx + gp.width_mm / 2, 0.0).difference(notch)
     keepouts = (
         KeepOut("antenna_clearance", clearance_box, no_tracks=True, no_vias=True, no_pour=True),
-        KeepOut("feed_notch", notch, no_tracks=False, no_vias=True, no_pour=True),
+        # The notch only clears the pour beside the feed pad on its own layer; the inner and
+        # bottom grounds stay under the feed (a grounded-coplanar feed).
+        KeepOut("feed_notch", notch, no_tracks=False, no_vias=True, no_pour=True, front_only=True),
     )
     owned = shapely.union_all([clearance_box, notch, antenna] + [p.polygon for p in pads])
     cx0, cy0, cx1, cy1 = owned.bounds

@@ -130,7 +130,9 @@ def filled_zones(board_path: Path) -> dict[str, list[list[list[float]]]]:
     return json.loads(proc.stdout.strip().splitlines()[-1])
 
 
-def make_test_board(spec_path: Path, out_dir: Path, *, drc: bool = True, allow_violations: bool = False) -> DrcReport:
+def make_test_board(
+    spec_path: Path, out_dir: Path, *, drc: bool = True, allow_violations: bool = False, board_name: str | None = None
+) -> DrcReport:
     """Build the spec's footprint into ``out_dir``, make the test board there, optionally DRC it."""
     out_dir = Path(out_dir).resolve()
     result = run(load_spec(spec_path))
@@ -139,6 +141,6 @@ def make_test_board(spec_path: Path, out_dir: Path, *, drc: bool = True, allow_v
     if not footprint.exists():
         raise KiCadError(f"{spec_path}: the rule check failed, so no footprint was written; fix the spec or pass --allow-violations")
     plan = test_board_plan(result.spec, result.layout, library=result.spec.library, footprint_file=str(footprint))
-    board_path = out_dir / f"{result.spec.name}-test.kicad_pcb"
+    board_path = out_dir / f"{board_name or result.spec.name + '-test'}.kicad_pcb"
     make_board(plan, board_path)
     return DrcReport(board_path, run_drc(board_path) if drc else None)

@@ -93,14 +93,14 @@ def _pad(pad: PadShape) -> Pad:
     return Pad(type="smd", shape="rect", layers=["F.Cu"], zoneConnect=ZONE_CONNECT_SOLID, **common)
 
 
-def _keepout(name: str, poly: Polygon, *, no_tracks: bool, no_vias: bool, no_pour: bool) -> Zone:
+def _keepout(name: str, poly: Polygon, *, no_tracks: bool, no_vias: bool, no_pour: bool, front_only: bool) -> Zone:
     def rule(forbidden: bool) -> str:
         return "not_allowed" if forbidden else "allowed"
 
     return Zone(
         net=0,
         netName="",
-        layers=list(COPPER_LAYERS),
+        layers=["F.Cu"] if front_only else list(COPPER_LAYERS),
         name=name,
         hatch=Hatch(style="edge", pitch=0.5),
         connectPads=None,
@@ -148,7 +148,8 @@ def footprint(layout: Layout, meta: FootprintMeta) -> Footprint:
         fp.graphicItems += _line(line, "F.SilkS", SILK_WIDTH_MM)
     fp.pads = [_pad(p) for p in layout.pads]
     fp.zones = [
-        _keepout(k.name, k.polygon, no_tracks=k.no_tracks, no_vias=k.no_vias, no_pour=k.no_pour) for k in layout.keepouts
+        _keepout(k.name, k.polygon, no_tracks=k.no_tracks, no_vias=k.no_vias, no_pour=k.no_pour, front_only=k.front_only)
+        for k in layout.keepouts
     ]
     return fp
 

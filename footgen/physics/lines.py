@@ -394,15 +394,16 @@ def cpw_air_backed(
     er = _permittivity("eps_r", eps_r)
     h = _positive("thickness_m", thickness_m)
     q0 = _cpw_free_space_q(w, s)
-    # k1 = sinh(a)/sinh(b); k1' ** 2 = (sinh^2 b - sinh^2 a)/sinh^2 b = sinh(b-a) sinh(b+a)/sinh^2 b.
-    # Scaled by exp(-b) so large arguments do not overflow.
-    # k1 = sinh(a)/sinh(b) and k1'^2 = sinh(b-a) sinh(b+a) / sinh(b)^2, written with
-    # exponentials of negative arguments so that thin slabs (large a, b) do not overflow.
+    # k1 = sinh(a)/sinh(b) and k1'^2 = sinh(b-a) sinh(b+a) / sinh(b)^2, as logarithms of
+    # exponentials of negative arguments so that thin slabs (large a, b) neither overflow nor
+    # underflow.
     a, b = PI * w / (4.0 * h), PI * (w + 2.0 * s) / (4.0 * h)
-    one_minus_e2b = -np.expm1(-2.0 * b)
-    m1 = (np.exp(a - b) * -np.expm1(-2.0 * a) / one_minus_e2b) ** 2
-    m1p = -np.expm1(-2.0 * (b - a)) * -np.expm1(-2.0 * (b + a)) / one_minus_e2b**2
-    q1 = elliptic_k_ratio_from_m(m1, m1p)
+    log_sinh_b = np.log(-np.expm1(-2.0 * b))  # log(2 sinh(b) e^{-b})
+    log_m1 = 2.0 * ((a - b) + np.log(-np.expm1(-2.0 * a)) - log_sinh_b)
+    log_m1p = (
+        np.log(-np.expm1(-2.0 * (b - a))) + np.log(-np.expm1(-2.0 * (b + a))) - 2.0 * log_sinh_b
+    )
+    q1 = elliptic_k_ratio_from_log_m(log_m1, log_m1p)
     eps_eff = 1.0 + 0.5 * (er - 1.0) * q1 / q0
     z0 = ETA0_OHM / (4.0 * np.sqrt(eps_eff) * q0)
     return z0, eps_eff

@@ -35,13 +35,14 @@ from dataclasses import dataclass, field
 
 import numpy as np
 import scipy.sparse as sp
+from scipy.linalg.blas import zaxpy
 
 from footgen.constants import C0_M_PER_S, EPS0_F_PER_M, ETA0_OHM, MU0_H_PER_M
 from footgen.errors import SolverError
 
 NODE_MERGE_TOL_M = 1e-9
 MIN_SEGMENT_TO_RADIUS = 2.0
-NEAR_PAIR_FACTOR = 3.0
+NEAR_PAIR_FACTOR = 3.5  # close pairs: centre distance < factor * mean length (not an integer: uniform meshes sit at integer multiples)
 OUTER_POINTS_SINGULAR = 12
 INNER_POINTS_SINGULAR = 6
 POINTS_NEAR = 4
@@ -276,6 +277,11 @@ class _PairIntegrals:
         # outer weights x node function x l_p ; inner weights x node function x l_q
         self.w_out = (lp[:, None, None] * (w_o[:, None] * phi_o)[None, :, :])  # (P, O, 2)
         self.w_in = (lq[:, None, None] * (w_i[:, None] * phi_i)[None, :, :])  # (P, I, 2)
+        # sum_o sum_i w_out[o, a] kern[o, i] w_in[i, b] = l_p l_q (kern.reshape(P, O*I) @ kron)[ab]
+        c_out = w_o[:, None] * phi_o
+        c_in = w_i[:, None] * phi_i
+        self._kron = np.einsum("oa,ib->oiab", c_out, c_in).reshape(c_out.shape[0] * c_in.shape[0], 4)
+        self._lplq = lp * lq
         self.singular = singular
         self.self_mask = p == q
         if singular:
@@ -305,8 +311,9 @@ class _PairIntegrals:
 
     def _product(self, kern: np.ndarray) -> np.ndarray:
         """``sum_o sum_i w_out[o, a] kern[o, i] w_in[i, b]`` per pair -> (P, 2, 2), symmetric for self pairs."""
-        inner = np.einsum("poi,pib->pob", kern, self.w_in)
-        out = np.einsum("poa,pob->pab", self.w_out, inner)
+        flat = kern.reshape(kern.shape[0], -1)
+        kron = self._kron if np.isrealobj(flat) else self._kron.astype(flat.dtype)
+        out = (flat @ kron).reshape(-1, 2, 2) * self._lplq[:, None, None]
         if self.self_mask.any():
             out[self.self_mask] = 0.5 * (out[self.self_mask] + out[self.self_mask].transpose(0, 2, 1))
         return out
@@ -334,11 +341,15 @@ class MomSolver:
         seg_h = hs.reshape(-1, 2)
         w_half = (hg * mesh.lengths[hs] / 2.0).reshape(-1, 2)
         c_half = (hg * delta).reshape(-1, 2)
-        dots = mesh.units @ mesh.units.T
-        self._half_segs = (seg_h[:, 0].copy(), seg_h[:, 1].copy())
-        self._w_far_a = [[(np.outer(w_half[:, i], w_half[:, j]) * dots[np.ix_(seg_h[:, i], seg_h[:, j])]).astype(FAR_REAL)
-                          for j in range(2)] for i in range(2)]
-        self._w_far_phi = [[np.outer(c_half[:, i], c_half[:, j]).astype(FAR_REAL) for j in range(2)] for i in range(2)]
+        # weights stored complex so the per-frequency products need no type conversion;
+        # A weights (w_i u_i).(w_j u_j) as one rank-3 product per half combination
+        moment = [w_half[:, i, None] * mesh.units[seg_h[:, i]] for i in range(2)]
+        self._w_far_a64 = [[moment[i] @ moment[j].T for j in range(2)] for i in range(2)]  # static pass
+        self._w_far_a = [[w.astype(FAR_COMPLEX) for w in row] for row in self._w_far_a64]
+        charge = [c_half[:, i].astype(FAR_COMPLEX) for i in range(2)]
+        self._w_far_phi = [[np.multiply.outer(charge[i], charge[j]) for j in range(2)] for i in range(2)]
+        self._far_take = [[(seg_h[:, i][:, None] * n_seg + seg_h[:, j][None, :]).astype(np.intp) for j in range(2)]
+                          for i in range(2)]
         cen = mesh.centres
         sq = np.einsum("nd,nd->n", cen, cen)
         dist2 = np.maximum(sq[:, None] + sq[None, :] - 2.0 * cen @ cen.T, 0.0)
@@ -356,7 +367,7 @@ class MomSolver:
         keep = tp <= tq
         sing_p, sing_q = tp[keep], tq[keep]
         mean_len = 0.5 * (mesh.lengths[:, None] + mesh.lengths[None, :])
-        near_mask = np.triu(np.sqrt(dist2) < NEAR_PAIR_FACTOR * mean_len, 1)
+        near_mask = np.triu(dist2 < (NEAR_PAIR_FACTOR * mean_len) ** 2, 1)
         near_mask[sing_p, sing_q] = False
         near_p, near_q = np.nonzero(near_mask)
         self._sing = _PairIntegrals(mesh, sing_p, sing_q, singular=True)
@@ -461,15 +472,25 @@ class MomSolver:
     def _far(self, g_mid: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """Midpoint-rule ``A`` and ``Phi`` for all pairs from the segment-midpoint kernel ``g_mid``
         (accumulated in the precision of ``g_mid``)."""
-        a_mat = np.zeros((self.mesh.n_basis, self.mesh.n_basis), g_mid.dtype)
-        phi_mat = np.zeros_like(a_mat)
+        n_b = self.mesh.n_basis
+        flat = g_mid.reshape(-1)
+        real = not np.iscomplexobj(g_mid)
+        a_mat = np.empty((n_b, n_b), g_mid.dtype)
+        phi_mat = np.empty_like(a_mat)
+        gij = np.empty_like(a_mat)
         tmp = np.empty_like(a_mat)
         for i in range(2):
-            rows = g_mid[self._half_segs[i]]
             for j in range(2):
-                gij = rows[:, self._half_segs[j]]
-                a_mat += np.multiply(self._w_far_a[i][j], gij, out=tmp)
-                phi_mat += np.multiply(self._w_far_phi[i][j], gij, out=tmp)
+                np.take(flat, self._far_take[i][j], out=gij)
+                w_a, w_phi = self._w_far_a[i][j], self._w_far_phi[i][j]
+                if real:
+                    w_a, w_phi = self._w_far_a64[i][j], w_phi.real
+                if i == 0 and j == 0:
+                    np.multiply(w_a, gij, out=a_mat)
+                    np.multiply(w_phi, gij, out=phi_mat)
+                else:
+                    a_mat += np.multiply(w_a, gij, out=tmp)
+                    phi_mat += np.multiply(w_phi, gij, out=tmp)
         return a_mat, phi_mat
 
     def _slab_scalar_matrix(self) -> np.ndarray:
@@ -525,10 +546,14 @@ class MomSolver:
         return a_mat, phi_mat
 
     def _combine(self, freq_hz: float, a_mat: np.ndarray, phi_mat: np.ndarray) -> np.ndarray:
+        """``Z = j w mu0 A + (Phi + Phi_slab)/(j w eps0) + Z_loss`` (overwrites ``a_mat``, ``phi_mat``)."""
         omega = 2.0 * math.pi * freq_hz
         if self._slab_phi is not None:
-            phi_mat = phi_mat + self._slab_phi
-        z = (1j * omega * MU0_H_PER_M) * a_mat + phi_mat / (1j * omega * EPS0_F_PER_M)
+            phi_mat += self._slab_phi
+        phi_mat *= 1.0 / (1j * omega * EPS0_F_PER_M)
+        a_mat *= 1j * omega * MU0_H_PER_M
+        a_mat += phi_mat
+        z = a_mat
         if self._loss_idx.shape[0]:
             z.reshape(-1)[self._loss_idx] += (1.0 + 1j) * self.surface_resistance_ohm(freq_hz) * self._loss_val
         return z
@@ -585,14 +610,19 @@ class MomSolver:
         progress: Callable[[int, int], None] | None = None,
         anchors_hz: np.ndarray | None = None,
     ) -> np.ndarray:
-        """Zin over a sweep by phase-extracted quadratic interpolation of ``A`` and ``Phi`` between
-        anchor fills (Newman 1988), one LAPACK solve per frequency (batched)."""
+        """Zin over a sweep by impedance-matrix interpolation (Newman 1988): ``A`` and ``Phi`` are
+        filled at anchor frequencies, their phase ``exp(-jk D_mn)`` removed, interpolated
+        quadratically in ``k`` over the three nearest anchors and the phase restored; one LAPACK
+        solve per frequency (batched).  Static slab and conductor-loss terms are exact at every
+        frequency."""
         freqs = np.asarray(freqs_hz, float)
         if freqs.ndim != 1 or freqs.shape[0] == 0:
             raise SolverError("freqs_hz must be a non-empty 1-D array")
         if anchors_hz is None:
             anchors_hz = self.anchor_frequencies(float(freqs.min()), float(freqs.max()))
-        anchors = np.asarray(anchors_hz, float)
+        anchors = np.sort(np.asarray(anchors_hz, float))
+        if anchors.shape[0] < 3:
+            raise SolverError("matrix interpolation needs >= 3 anchor frequencies")
         k_anchor = 2.0 * math.pi * anchors / C0_M_PER_S
         dist = self.basis_distance_m
         stack_a, stack_p = [], []
@@ -603,34 +633,60 @@ class MomSolver:
             stack_p.append(phi_mat * ph)
         n_b = dist.shape[0]
         k_all = 2.0 * math.pi * freqs / C0_M_PER_S
-        # group of three consecutive anchors nearest each frequency
-        centre = np.clip(np.searchsorted(k_anchor, k_all) - 1, 0, max(0, len(anchors) - 3))
-        if len(anchors) < 3:
-            raise SolverError("matrix interpolation needs >= 3 anchor frequencies")
+        group = np.clip(np.searchsorted(k_anchor, k_all) - 1, 0, anchors.shape[0] - 3)
+        coeffs: dict[int, list[np.ndarray]] = {}
+
+        def laurent(c: int) -> list[np.ndarray]:
+            """Matrices C_n with Z_dyn = E o sum_n k^n C_n, n = -1..3, for anchor group ``c``."""
+            if c not in coeffs:
+                kk = k_anchor[c : c + 3]
+                power = np.zeros((3, 3))  # power[i] = (alpha, beta, gamma) of Lagrange weight i
+                for i in range(3):
+                    others = [kk[j] for j in range(3) if j != i]
+                    scale = 1.0 / ((kk[i] - others[0]) * (kk[i] - others[1]))
+                    power[i] = scale * np.array([others[0] * others[1], -(others[0] + others[1]), 1.0])
+                a_pw = [sum(power[i, n] * stack_a[c + i] for i in range(3)) for n in range(3)]
+                p_pw = [sum(power[i, n] * stack_p[c + i] for i in range(3)) for n in range(3)]
+                fac = -1j * ETA0_OHM
+                coeffs.clear()
+                coeffs[c] = [fac * p_pw[0], fac * p_pw[1], fac * (p_pw[2] - a_pw[0]), -fac * a_pw[1], -fac * a_pw[2]]
+            return coeffs[c]
+
+        dk = np.diff(k_all)
+        uniform = freqs.shape[0] > 2 and np.allclose(dk, dk[0], rtol=1e-9, atol=0.0)
+        step = np.exp(-1j * dk[0] * dist).reshape(-1) if uniform else None
+        phase = np.exp(-1j * k_all[0] * dist).reshape(-1)
+        slab = self._slab_phi.reshape(-1) if self._slab_phi is not None else None
         out = np.empty(freqs.shape[0], complex)
         v = self._v.astype(complex)
-        done = 0
         for start in range(0, freqs.shape[0], SOLVE_CHUNK):
-            sl = slice(start, min(start + SOLVE_CHUNK, freqs.shape[0]))
-            z_batch = np.empty((sl.stop - sl.start, n_b, n_b), complex)
-            for j, i in enumerate(range(sl.start, sl.stop)):
-                c = int(centre[i])
-                kk = k_anchor[c : c + 3]
-                x = k_all[i]
-                lw = [
-                    (x - kk[1]) * (x - kk[2]) / ((kk[0] - kk[1]) * (kk[0] - kk[2])),
-                    (x - kk[0]) * (x - kk[2]) / ((kk[1] - kk[0]) * (kk[1] - kk[2])),
-                    (x - kk[0]) * (x - kk[1]) / ((kk[2] - kk[0]) * (kk[2] - kk[1])),
-                ]
-                ph = np.exp(-1j * x * dist)
-                a_mat = ph * (lw[0] * stack_a[c] + lw[1] * stack_a[c + 1] + lw[2] * stack_a[c + 2])
-                p_mat = ph * (lw[0] * stack_p[c] + lw[1] * stack_p[c + 1] + lw[2] * stack_p[c + 2])
-                z_batch[j] = self._combine(float(freqs[i]), a_mat, p_mat)
+            stop = min(start + SOLVE_CHUNK, freqs.shape[0])
+            z_batch = np.empty((stop - start, n_b, n_b), complex)
+            for j, i in enumerate(range(start, stop)):
+                x = float(k_all[i])
+                if i > 0:
+                    if uniform:
+                        phase *= step
+                    else:
+                        phase = np.exp(-1j * x * dist).reshape(-1)
+                c_m1, c_0, c_1, c_2, c_3 = (m.reshape(-1) for m in laurent(int(group[i])))
+                zj = z_batch[j].reshape(-1)
+                np.multiply(c_3, x, out=zj)
+                zaxpy(c_2, zj, a=1.0)
+                zj *= x
+                zaxpy(c_1, zj, a=1.0)
+                zj *= x
+                zaxpy(c_0, zj, a=1.0)
+                zaxpy(c_m1, zj, a=1.0 / x)
+                zj *= phase
+                if slab is not None:
+                    zaxpy(slab, zj, a=-1j * ETA0_OHM / x)
+                if self._loss_idx.shape[0]:
+                    zj[self._loss_idx] += (1.0 + 1j) * self.surface_resistance_ohm(float(freqs[i])) * self._loss_val
             cur = np.linalg.solve(z_batch, np.broadcast_to(v, (z_batch.shape[0], n_b))[..., None])[..., 0]
-            out[sl] = 1.0 / (cur @ v)
-            done = sl.stop
+            out[start:stop] = 1.0 / (cur @ v)
             if progress is not None:
-                progress(done, freqs.shape[0])
+                progress(stop, freqs.shape[0])
         return out
 
 

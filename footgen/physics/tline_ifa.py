@@ -5,32 +5,47 @@ Model
 The arm and the ground edge form a quasi-TEM line (a strip beside a coplanar ground half-plane,
 :func:`footgen.physics.lines.z0_strip_beside_ground_edge`, evaluated per arm segment at that
 segment's height; a segment perpendicular to the edge uses its mean height).  The feed leg taps
-this line at ``feed_x_m``; the port sees two lines in parallel:
+this line at ``feed_x_m``; from the tap the port sees two lines in parallel:
 
 * the shorted stub from the tap back to the short leg, terminated by ``R_rad + j w L_short``;
 * the open arm from the tap to the open end (open circuit; fringing at the end is ignored,
   which puts the predicted resonance slightly high).
 
-``Z_in = 1 / (Y_short_side + Y_open_side)`` plus, optionally, ``j w L_feed`` for the feed leg.
-The resonance is the zero of ``Im(Y_short_side + Y_open_side)`` where it rises through zero
-(the arm's quarter-wave parallel resonance).
+The feed leg and the short leg (height ``H``) are coupled inductors (partial self-inductances
+``L_feed``, ``L_short`` and their mutual ``M``, Grover): the port voltage is the tap voltage plus
+the feed leg's drop, and the short leg's drop includes ``-j w M I_feed``.  With coincident legs
+and no loss the port is shorted, as it must be.  The resonance is the pole of the lossless
+``Z_in``: the natural frequency with the port open, which is independent of the tap position.
+When the tap is far from the short the resistance there is well above 50 ohm and a real IFA is
+matched higher up, near the series resonance; this function still returns the pole.
 
 Approximations the numbers cannot escape
 ----------------------------------------
 * Quasi-static line constants (no dispersion); conductor loss ignored; dielectric loss from the
   laminate's loss tangent with the quasi-TEM filling factor.
-* A meandered arm is its centreline length: the meander's mutual coupling (which shortens the
-  electrical length of a real meander) is ignored, and a meander leg perpendicular to the ground
-  edge is treated as a line at its mean height.  Expect a meandered arm to resonate lower than
-  predicted.
-* The short leg is a lumped partial self-inductance (flat thin strip, Grover); its mutual
-  inductance with the feed leg and the line is ignored.
+* A meandered arm is its centreline length: the meander's mutual coupling (antiparallel
+  currents in adjacent folds, which shorten the electrical length of a real meander) is
+  ignored, and a meander leg perpendicular to the ground edge is treated as a line at its mean
+  height.  Expect a meandered arm to resonate higher than predicted (common practice, no
+  source).  No correction is applied.
+* Leg inductances are thin-strip partial inductances; their coupling to the arm line is ignored.
 * Radiation is one series resistance at the current maximum (the short).  A physics-only
   estimate (the legs as a Hertzian dipole, :func:`radiation_resistance_hertzian_legs_ohm`)
-  gives well under 1 % bandwidth, because most of a printed IFA's radiation comes from
-  ground-plane currents that a two-conductor line cannot describe.  The default
-  (:func:`radiation_resistance_height_rule_ohm`) is therefore a calibration, common practice, no
-  source; replace it by a fit to full-wave results when those exist.
+  is under 1 ohm for usual heights, too little to match 50 ohm with the legs apart, because
+  most of a printed IFA's radiation comes from ground-plane currents that a two-conductor line
+  cannot describe.  The default (:func:`radiation_resistance_height_rule_ohm`) is therefore a
+  calibration, common practice, no source; replace it by a fit to full-wave results when those
+  exist.  The ground-plane size (``ifa.ground``) is not used.
+
+Known accuracy (measured while writing this model, not checked by a test)
+-------------------------------------------------------------------------
+* The partial-capacitance eps_eff of the arm line is 6-15 % below a 2-D finite-volume solution
+  for gaps of 0.6-4 slab thicknesses (FR-4, 1.6 mm), so the line part alone puts the
+  resonance 3-8 % high.
+* On the openEMS development case ``dev_straight_16`` (tests/fullwave) the model's pole is at
+  2.74 GHz against openEMS's parallel resonance near 2.10 GHz (+30 %); the peak resistance is
+  of the right size (387 vs 322 ohm).  Use ``eps_eff_scale`` / ``open_end_extension_m`` fits
+  before trusting the frequency.
 
 Estimates never replace measurement; radio products must meet local radio regulations and
 RF-exposure limits.
@@ -38,6 +53,7 @@ RF-exposure limits.
 
 from __future__ import annotations
 
+import functools
 import math
 from collections.abc import Callable
 from dataclasses import dataclass, replace
@@ -57,8 +73,9 @@ from footgen.physics.lines import (
 #: Reference impedance of the feed line (ohm).
 FEED_REFERENCE_OHM = 50.0
 #: Slope of the default radiation-resistance rule, R_rad = slope * H / lambda0 (ohm).
-#: Common practice, no source: chosen so that a straight IFA at H ~ lambda0/30 shows the
-#: several-per-cent -10 dB bandwidth and millimetre feed-short spacing usual for printed IFAs.
+#: Common practice, no source: a calibration chosen so that straight 2.4 GHz-class IFAs of
+#: 2-8 mm height show the several-per-cent -10 dB bandwidth usual for printed IFAs and can be
+#: matched with the legs apart.  Not a measured or published number.
 RADIATION_SLOPE_OHM = 600.0
 #: Resonance search window around the quarter-wave estimate (fractions of it).
 RESONANCE_SEARCH_LOW = 0.4
@@ -69,6 +86,9 @@ RESONANCE_SEARCH_POINTS = 241
 ROOT_RTOL = 1e-9
 #: Lengths below this are treated as zero (m).
 LENGTH_EPS_M = 1e-12
+#: Distinct (width, gap, eps_r, thickness) line cross-sections remembered by
+#: :func:`line_constants`.
+LINE_CACHE_SIZE = 65536
 
 
 @dataclass(frozen=True)
@@ -76,13 +96,18 @@ class TlineIfaOptions:
     """Switches of the transmission-line IFA model.
 
     ``radiation_model`` names an entry of :data:`RADIATION_MODELS`;
-    ``radiation_resistance_ohm`` (if set) overrides it with a fixed value (for fits).
+    ``radiation_resistance_ohm`` (if set) overrides it with a fixed value.  ``eps_eff_scale``
+    multiplies every section's eps_eff (dividing Z0 by its square root: the line's capacitance
+    scales, its inductance does not) and ``open_end_extension_m`` lengthens the open end; both
+    are neutral by default and exist for fits to full-wave results.
     """
 
     leg_inductance: bool = True
     dielectric_loss: bool = True
     radiation_model: str = "height_rule"
     radiation_resistance_ohm: float | None = None
+    eps_eff_scale: float = 1.0
+    open_end_extension_m: float = 0.0
 
 
 DEFAULT_OPTIONS = TlineIfaOptions()
@@ -98,7 +123,7 @@ def strip_partial_inductance_h(length_m: float, width_m: float) -> float:
 
     Grover, "Inductance Calculations", 1946 (Dover 1962), straight rectangular bar with
     thickness -> 0 (from memory): ``L = mu0 l / (2 pi) [ln(2 l / w) + 1/2 + 0.2235 w / l]``.
-    Meant for ``l >> w``; kept positive for stubby legs by a floor at zero.
+    Meant for ``l >> w``; floored at zero for stubby legs.
     """
     if length_m <= 0.0 or width_m <= 0.0:
         raise SolverError(
@@ -155,7 +180,7 @@ def leg_inductances(ifa: PrintedIfa, options: TlineIfaOptions = DEFAULT_OPTIONS)
 
 
 def dielectric_attenuation_np_per_m(
-    freq_hz: ArrayLike, eps_r: float, eps_eff: float, loss_tangent: float
+    freq_hz: ArrayLike, eps_r: float, eps_eff: ArrayLike, loss_tangent: float
 ) -> NDArray[np.float64]:
     """Dielectric attenuation (Np/m) of a quasi-TEM line with a partly filled cross-section.
 
@@ -166,7 +191,8 @@ def dielectric_attenuation_np_per_m(
     if eps_r <= 1.0 or loss_tangent == 0.0:
         return np.zeros_like(f)
     k0 = 2.0 * PI * f / C0_M_PER_S
-    return k0 * eps_r * (eps_eff - 1.0) * loss_tangent / (2.0 * math.sqrt(eps_eff) * (eps_r - 1.0))
+    eps_eff = np.asarray(eps_eff, dtype=float)
+    return k0 * eps_r * (eps_eff - 1.0) * loss_tangent / (2.0 * np.sqrt(eps_eff) * (eps_r - 1.0))
 
 
 def radiation_resistance_hertzian_legs_ohm(freq_hz: ArrayLike, ifa: PrintedIfa) -> NDArray:
@@ -249,16 +275,26 @@ def _check_ifa(ifa: PrintedIfa) -> None:
             )
 
 
+@functools.lru_cache(maxsize=LINE_CACHE_SIZE)
+def line_constants(
+    width_m: float, gap_m: float, eps_r: float, thickness_m: float
+) -> tuple[float, float]:
+    """``(Z0 ohm, eps_eff)`` of the arm line (:func:`z0_strip_beside_ground_edge`,
+    :func:`eps_eff_strip_beside_ground_edge`) as Python floats, memoised on the exact argument
+    values (a pure function: the cached and the direct values are the same bits)."""
+    return (
+        float(z0_strip_beside_ground_edge(width_m, gap_m, eps_r, thickness_m)),
+        float(eps_eff_strip_beside_ground_edge(width_m, gap_m, eps_r, thickness_m)),
+    )
+
+
 def _line_at_height(ifa: PrintedIfa, height_m: float, length_m: float) -> LineSection:
     lam = ifa.laminate
     gap = height_m - ifa.trace_width_m / 2.0
-    return LineSection(
-        length_m=length_m,
-        z0_ohm=float(z0_strip_beside_ground_edge(ifa.trace_width_m, gap, lam.eps_r, lam.thickness_m)),
-        eps_eff=float(
-            eps_eff_strip_beside_ground_edge(ifa.trace_width_m, gap, lam.eps_r, lam.thickness_m)
-        ),
+    z0, eps_eff = line_constants(
+        float(ifa.trace_width_m), float(gap), float(lam.eps_r), float(lam.thickness_m)
     )
+    return LineSection(length_m=length_m, z0_ohm=z0, eps_eff=eps_eff)
 
 
 def feed_tap_position_m(ifa: PrintedIfa) -> float:
@@ -278,10 +314,19 @@ def feed_tap_position_m(ifa: PrintedIfa) -> float:
     )
 
 
-def arm_sections(ifa: PrintedIfa) -> tuple[tuple[LineSection, ...], tuple[LineSection, ...]]:
+def arm_sections(
+    ifa: PrintedIfa, options: TlineIfaOptions = DEFAULT_OPTIONS
+) -> tuple[tuple[LineSection, ...], tuple[LineSection, ...]]:
     """The arm as line sections: ``(short side from the short to the tap, open side from the tap
-    to the open end)``, both ordered from the short towards the open end."""
+    to the open end)``, both ordered from the short towards the open end; ``options`` applies
+    its eps_eff scale and open-end extension."""
     _check_ifa(ifa)
+    if not options.eps_eff_scale > 0.0:
+        raise SolverError(f"eps_eff_scale = {options.eps_eff_scale!r}: must be > 0")
+    if not options.open_end_extension_m >= 0.0:
+        raise SolverError(
+            f"open_end_extension_m = {options.open_end_extension_m!r}: must be >= 0"
+        )
     tap = feed_tap_position_m(ifa)
     short_side: list[LineSection] = []
     open_side: list[LineSection] = []
@@ -301,19 +346,32 @@ def arm_sections(ifa: PrintedIfa) -> tuple[tuple[LineSection, ...], tuple[LineSe
         raise SolverError(f"feed_x_m = {ifa.feed_x_m!r}: the feed taps the arm at its open end")
     if not short_side:
         raise SolverError(f"feed_x_m = {ifa.feed_x_m!r}: the feed taps the arm at the short")
+    if options.open_end_extension_m > 0.0:
+        open_side.append(replace(open_side[-1], length_m=options.open_end_extension_m))
+    scale = options.eps_eff_scale
+    if scale != 1.0:
+        short_side, open_side = (
+            [replace(x, eps_eff=x.eps_eff * scale, z0_ohm=x.z0_ohm / math.sqrt(scale))
+             for x in side]
+            for side in (short_side, open_side)
+        )
     return tuple(short_side), tuple(open_side)
 
 
-def _gamma(freq_hz: NDArray, section: LineSection, ifa: PrintedIfa, options: TlineIfaOptions):
-    beta = 2.0 * PI * freq_hz * math.sqrt(section.eps_eff) / C0_M_PER_S
+def _electrical_lengths(freq_hz: NDArray, sections, ifa: PrintedIfa, options: TlineIfaOptions):
+    """``gamma * l`` of every section at every frequency: shape ``(len(freq_hz), len(sections))``."""
+    f = np.asarray(freq_hz, dtype=float)[:, np.newaxis]
+    length = np.array([s.length_m for s in sections])
+    eps_eff = np.array([s.eps_eff for s in sections])
+    beta = 2.0 * PI * f * np.sqrt(eps_eff) / C0_M_PER_S
     alpha = (
         dielectric_attenuation_np_per_m(
-            freq_hz, ifa.laminate.eps_r, section.eps_eff, ifa.laminate.loss_tangent
+            f, ifa.laminate.eps_r, eps_eff, ifa.laminate.loss_tangent
         )
         if options.dielectric_loss
         else 0.0
     )
-    return alpha + 1j * beta
+    return (alpha + 1j * beta) * length
 
 
 def transform_impedance(z_load: NDArray, z0_ohm: float, gamma: NDArray, length_m: float):
@@ -324,53 +382,81 @@ def transform_impedance(z_load: NDArray, z0_ohm: float, gamma: NDArray, length_m
     return z0_ohm * (z_load + z0_ohm * t) / (z0_ohm + z_load * t)
 
 
+def _chain_abcd(freq_hz: NDArray, ifa: PrintedIfa, sections, options) -> NDArray:
+    """ABCD matrix, shape ``(len(freq_hz), 2, 2)``, of ``sections`` in cascade, the first one at
+    the input: the product of the line matrices ``[[cosh gl, Z0 sinh gl], [sinh gl / Z0,
+    cosh gl]]`` (Pozar, "Microwave Engineering", 4th ed. 2012, table 4.1 (from memory)),
+    multiplied pairwise (log2 of the section count matrix products, not one per section)."""
+    gl = _electrical_lengths(freq_hz, sections, ifa, options)
+    z0 = np.array([s.z0_ohm for s in sections])
+    ch, sh = np.cosh(gl), np.sinh(gl)
+    m = np.empty(gl.shape + (2, 2), dtype=complex)
+    m[..., 0, 0] = ch
+    m[..., 0, 1] = z0 * sh
+    m[..., 1, 0] = sh / z0
+    m[..., 1, 1] = ch
+    while m.shape[1] > 1:
+        if m.shape[1] % 2:
+            m = np.concatenate([m, np.broadcast_to(np.eye(2), (m.shape[0], 1, 2, 2))], axis=1)
+        m = m[:, 0::2] @ m[:, 1::2]
+    return m[:, 0]
+
+
 def _short_side_abcd(freq_hz: NDArray, ifa: PrintedIfa, sections, options):
     """ABCD matrix (per frequency) of the short side, from the tap to the short end."""
-    a = np.ones_like(freq_hz, dtype=complex)
-    b = np.zeros_like(a)
-    c = np.zeros_like(a)
-    d = np.ones_like(a)
-    for section in reversed(sections):  # tap side first
-        gl = _gamma(freq_hz, section, ifa, options) * section.length_m
-        ch, sh = np.cosh(gl), np.sinh(gl)
-        z0 = section.z0_ohm
-        a, b, c, d = (a * ch + b * sh / z0, a * z0 * sh + b * ch, c * ch + d * sh / z0, c * z0 * sh + d * ch)
-    return a, b, c, d
+    m = _chain_abcd(freq_hz, ifa, sections[::-1], options)  # tap side first
+    return m[:, 0, 0], m[:, 0, 1], m[:, 1, 0], m[:, 1, 1]
 
 
 def _open_side_admittance(freq_hz: NDArray, ifa: PrintedIfa, sections, options) -> NDArray:
-    """Admittance of the open side seen from the tap (open end: zero admittance)."""
-    y = np.zeros_like(freq_hz, dtype=complex)
-    for section in reversed(sections):  # from the open end towards the tap
-        # admittances transform like impedances with Y0 = 1/Z0
-        gamma = _gamma(freq_hz, section, ifa, options)
-        y = transform_impedance(y, 1.0 / section.z0_ohm, gamma, section.length_m)
-    return y
+    """Admittance of the open side seen from the tap: with the open end's current zero,
+    ``V_tap = A V_end`` and ``I_tap = C V_end``, so ``Y = C / A``."""
+    m = _chain_abcd(freq_hz, ifa, sections, options)
+    return m[:, 1, 0] / m[:, 0, 0]
 
 
-def _feed_impedance(freq_hz: NDArray, ifa: PrintedIfa, options: TlineIfaOptions) -> NDArray:
-    """Port impedance with the legs as coupled inductors.
+@dataclass(frozen=True)
+class _ArmModel:
+    """Everything about one IFA that does not depend on frequency."""
+
+    short_side: tuple[LineSection, ...]
+    open_side: tuple[LineSection, ...]
+    legs: LegInductances
+
+
+def _arm_model(ifa: PrintedIfa, options: TlineIfaOptions) -> _ArmModel:
+    short_side, open_side = arm_sections(ifa, options)
+    return _ArmModel(short_side, open_side, leg_inductances(ifa, options))
+
+
+def _feed_admittance(
+    freq_hz: NDArray, ifa: PrintedIfa, options: TlineIfaOptions, arm: _ArmModel | None = None
+) -> NDArray:
+    """Port admittance with the legs as coupled inductors.
 
     Unit current ``I_f`` up the feed leg; ``I_d`` down the short leg into ground through
     ``R_rad``.  Short leg: ``V2 = (R + jw Ls) I_d - jw M I_f``; short side line (ABCD):
     ``V_tap = A V2 + B I_d``, ``I_1 = C V2 + D I_d``; tap: ``I_f = I_1 + Y_open V_tap``;
-    feed leg: ``V = V_tap + jw Lf I_f - jw M I_d``.  With ``Lf = Ls = M`` and no line between
-    the legs the port is shorted, as it must be.
+    feed leg: ``V = V_tap + jw Lf I_f - jw M I_d``; ``Y = I_f / V``.  Written as one ratio so
+    that the lossless pole of ``Z_in`` is a plain zero of ``Y``.  With ``Lf = Ls = M``, no line
+    between the legs and ``R = 0`` the port is shorted, as it must be.
     """
-    short_side, open_side = arm_sections(ifa)
+    if arm is None:
+        arm = _arm_model(ifa, options)
+    short_side, open_side, legs = arm.short_side, arm.open_side, arm.legs
     omega = 2.0 * PI * freq_hz
-    legs = leg_inductances(ifa, options)
     z_short = radiation_resistance_ohm(freq_hz, ifa, options) + 1j * omega * legs.short_h
     jwm = 1j * omega * legs.mutual_h
     a, b, c, d = _short_side_abcd(freq_hz, ifa, short_side, options)
     y_open = _open_side_admittance(freq_hz, ifa, open_side, options)
-    # V_tap = (A z_short + B) I_d - A jwm ;  I_1 = (C z_short + D) I_d - C jwm
+    # V_tap = p_v I_d + q_v ;  I_1 = p_i I_d + q_i
     p_v, q_v = a * z_short + b, -a * jwm
     p_i, q_i = c * z_short + d, -c * jwm
-    # 1 = I_1 + Y_open V_tap  ->  I_d
-    i_d = (1.0 - q_i - y_open * q_v) / (p_i + y_open * p_v)
-    v_tap = p_v * i_d + q_v
-    return v_tap + 1j * omega * legs.feed_h - jwm * i_d
+    # 1 = I_1 + Y_open V_tap  ->  I_d = num / den
+    num = 1.0 - q_i - y_open * q_v
+    den = p_i + y_open * p_v
+    # V = (p_v - jwm) I_d + q_v + jw Lf  ->  Y = den / ((p_v - jwm) num + (q_v + jw Lf) den)
+    return den / ((p_v - jwm) * num + (q_v + 1j * omega * legs.feed_h) * den)
 
 
 def _check_freq(freq_hz: ArrayLike) -> NDArray[np.float64]:
@@ -389,7 +475,9 @@ def zin_tline_ifa(
     freq_hz: ArrayLike, ifa: PrintedIfa, options: TlineIfaOptions = DEFAULT_OPTIONS
 ) -> NDArray[np.complex128]:
     """Input impedance (ohm) at the feed, vectorised over ``freq_hz``."""
-    return _feed_impedance(_check_freq(freq_hz), ifa, options)
+    y = _feed_admittance(_check_freq(freq_hz), ifa, options)
+    with np.errstate(divide="ignore"):  # exactly at a lossless pole Z_in is infinite
+        return 1.0 / y
 
 
 def s11_tline_ifa(
@@ -403,10 +491,13 @@ def s11_tline_ifa(
     return (z - z_ref_ohm) / (z + z_ref_ohm)
 
 
-def quarter_wave_estimate_hz(ifa: PrintedIfa) -> float:
+def quarter_wave_estimate_hz(ifa: PrintedIfa, options: TlineIfaOptions = DEFAULT_OPTIONS) -> float:
     """``c / (4 L sqrt(eps_eff))`` with the length-weighted eps_eff of the arm's sections."""
-    sections = [s for side in arm_sections(ifa) for s in side]
-    electrical = sum(s.length_m * math.sqrt(s.eps_eff) for s in sections)
+    return _quarter_wave_hz(_arm_model(ifa, options))
+
+
+def _quarter_wave_hz(arm: _ArmModel) -> float:
+    electrical = sum(s.length_m * math.sqrt(s.eps_eff) for s in arm.short_side + arm.open_side)
     return C0_M_PER_S / (4.0 * electrical)
 
 
@@ -416,12 +507,15 @@ def resonance_tline_ifa_hz(ifa: PrintedIfa, options: TlineIfaOptions = DEFAULT_O
     zero there, Foster's reactance theorem); the crossing nearest the quarter-wave estimate.
     Raises :class:`SolverError` if the search window holds none."""
     lossless = replace(options, radiation_resistance_ohm=0.0, dielectric_loss=False)
-    f0 = quarter_wave_estimate_hz(ifa)
-    grid = np.linspace(RESONANCE_SEARCH_LOW * f0, RESONANCE_SEARCH_HIGH * f0, RESONANCE_SEARCH_POINTS)
+    arm = _arm_model(ifa, lossless)
+    f0 = _quarter_wave_hz(arm)
+    grid = np.linspace(
+        RESONANCE_SEARCH_LOW * f0, RESONANCE_SEARCH_HIGH * f0, RESONANCE_SEARCH_POINTS
+    )
 
     def susceptance(f: NDArray) -> NDArray:
-        with np.errstate(divide="ignore", invalid="ignore"):
-            return np.imag(1.0 / _feed_impedance(f, ifa, lossless))
+        with np.errstate(divide="ignore", invalid="ignore"):  # series resonances: Y infinite
+            return np.imag(_feed_admittance(f, ifa, lossless, arm))
 
     b = susceptance(grid)
     rising = np.nonzero((b[:-1] < 0.0) & (b[1:] >= 0.0))[0]
@@ -463,7 +557,9 @@ def bandwidth_tline_ifa_hz(
     while hi < points - 1 and s11_db[hi + 1] <= level_db:
         hi += 1
     if lo == 0 or hi == points - 1:
-        raise SolverError(f"level_db = {level_db!r}: the band reaches the edge of the search window")
+        raise SolverError(
+            f"level_db = {level_db!r}: the band reaches the edge of the search window"
+        )
     return _crossing(f, s11_db, lo - 1, lo, level_db), _crossing(f, s11_db, hi, hi + 1, level_db)
 
 
@@ -502,7 +598,8 @@ def with_feed_short_spacing(ifa: PrintedIfa, spacing_m: float) -> PrintedIfa:
     direction = math.copysign(1.0, x1 - x0)
     if not 0.0 < spacing_m < abs(x1 - x0):
         raise SolverError(
-            f"spacing_m = {spacing_m!r}: must lie inside the arm's first segment (0, {abs(x1 - x0)!r})"
+            f"spacing_m = {spacing_m!r}: must lie inside the arm's first segment "
+            f"(0, {abs(x1 - x0)!r})"
         )
     return replace(ifa, feed_x_m=ifa.short_x_m + direction * spacing_m)
 
@@ -544,10 +641,13 @@ def feed_short_spacing_for_match_m(
     ifa: PrintedIfa,
     z_target_ohm: float = FEED_REFERENCE_OHM,
     options: TlineIfaOptions = DEFAULT_OPTIONS,
+    *,
+    freq_hz: float | None = None,
 ) -> float:
     """Feed-short spacing (m, centre to centre) for which ``Re(Z_in) = z_target_ohm`` at the
-    arm's resonance; the feed moves along the arm's first segment
+    arm's resonance (or at ``freq_hz`` if given); the feed moves along the arm's first segment
     (:func:`with_feed_short_spacing`), no closer to the short leg than edge to edge."""
+    fixed_freq = None if freq_hz is None else float(_check_freq(freq_hz))
     (x0, _), (x1, _) = ifa.arm_path_m[0], ifa.arm_path_m[1]
     first = abs(x1 - x0)
     # from legs edge to edge (centre spacing = mean width) to the end of the first segment
@@ -557,14 +657,29 @@ def feed_short_spacing_for_match_m(
 
     def mismatch(spacing: float) -> float:
         trial = with_feed_short_spacing(ifa, spacing)
-        f_res = resonance_tline_ifa_hz(trial, options)
-        return float(np.real(zin_tline_ifa(np.array([f_res]), trial, options))[0]) - z_target_ohm
+        f = resonance_tline_ifa_hz(trial, options) if fixed_freq is None else fixed_freq
+        return float(np.real(zin_tline_ifa(np.array([f]), trial, options))[0]) - z_target_ohm
 
     m_lo, m_hi = mismatch(lo), mismatch(hi)
     if m_lo * m_hi > 0.0:
         raise SolverError(
-            f"z_target_ohm = {z_target_ohm!r}: the resonant resistance spans only "
+            f"z_target_ohm = {z_target_ohm!r}: the input resistance spans only "
             f"{m_lo + z_target_ohm:.4g} to {m_hi + z_target_ohm:.4g} ohm over the arm's first "
             "segment; change the height or the arm"
         )
     return optimize.brentq(mismatch, lo, hi, rtol=ROOT_RTOL)
+
+
+def tune_tline_ifa(
+    freq_hz: float,
+    ifa: PrintedIfa,
+    z_target_ohm: float = FEED_REFERENCE_OHM,
+    options: TlineIfaOptions = DEFAULT_OPTIONS,
+) -> PrintedIfa:
+    """Start point for the optimiser: the arm length for resonance at ``freq_hz``
+    (:func:`arm_length_for_resonance_m`), then the feed-short spacing for ``Re(Z_in) =
+    z_target_ohm`` there (:func:`feed_short_spacing_for_match_m`).  The resonance does not
+    depend on the tap, so one pass suffices."""
+    tuned = with_arm_length(ifa, arm_length_for_resonance_m(freq_hz, ifa, options))
+    spacing = feed_short_spacing_for_match_m(tuned, z_target_ohm, options)
+    return with_feed_short_spacing(tuned, spacing)

@@ -21,7 +21,7 @@ from pathlib import Path
 import pcbnew
 
 #: DRC checks raised from KiCad 9's default "ignore" so the test boards check them.
-RAISED_SEVERITIES = {"missing_courtyard": "error"}
+RAISED_SEVERITIES = {"missing_courtyard": "error", "connection_width": "error"}
 
 
 def _mm(value: float) -> int:

@@ -377,3 +377,99 @@ def network_s11(
     """S11(f) into ``z0_ohm`` of the ideal network ``parts`` (source -> load) ending in the load
     (a constant or one impedance per frequency).  Part Q and self-resonance are ignored."""
     return reflection_coefficient(input_impedance_ohm(freq_hz, parts, z_load_ohm), z0_ohm)
+
+
+# ----------------------------------------------------------------------------- plan
+
+#: Loaded Q of the listed pi networks, raised to 1.5 times the load's minimum when that is
+#: higher (common practice, no source: a Q of a few keeps the pi's bandwidth usable).
+DEFAULT_PI_Q = 2.0
+PI_Q_OVER_MINIMUM = 1.5
+#: Worst in-band |S11| values closer than this count as equal and fewer parts then win: each
+#: extra network must buy at least this much (dB; common practice, no source).
+EQUAL_WORST_DB = 1.0
+
+
+@dataclass(frozen=True)
+class MatchCandidate:
+    """One network with its parts snapped to a preferred series and its response across the
+    sweep (S11 against ``r0_ohm`` of the antenna seen through the snapped parts)."""
+
+    label: str
+    ideal_parts: tuple[Part, ...]
+    parts: tuple[Part, ...]
+    s11: np.ndarray
+    s11_db_at_f0: float
+    worst_s11_db_in_band: float
+
+    def describe(self) -> str:
+        return f"{self.label}: " + (", ".join(p.describe() for p in self.parts) or "direct connection")
+
+
+@dataclass(frozen=True)
+class MatchPlan:
+    """L and pi networks for a load known over a sweep, snapped to ``series``; ``chosen`` is
+    the index of the candidate with the best worst-case |S11| in the band."""
+
+    f0_hz: float
+    z_at_f0_ohm: complex
+    band_hz: tuple[float, float]
+    series: str
+    freq_hz: np.ndarray
+    z_load_ohm: np.ndarray
+    candidates: tuple[MatchCandidate, ...]
+    chosen: int
+
+    @property
+    def best(self) -> MatchCandidate:
+        return self.candidates[self.chosen]
+
+
+def _interp_complex(freq_hz: np.ndarray, values: np.ndarray, f0_hz: float) -> complex:
+    return complex(np.interp(f0_hz, freq_hz, values.real), np.interp(f0_hz, freq_hz, values.imag))
+
+
+def _db(gamma: np.ndarray) -> np.ndarray:
+    return 20.0 * np.log10(np.maximum(np.abs(gamma), 1e-15))
+
+
+def plan_match(
+    freq_hz: np.ndarray,
+    z_load_ohm: np.ndarray,
+    f0_hz: float,
+    *,
+    band_hz: tuple[float, float] | None = None,
+    series: str = "E24",
+    pi_q: float | None = None,
+    r0_ohm: float = R0_OHM,
+) -> MatchPlan:
+    """List the direct connection, every L network and the pi networks (loaded Q ``pi_q``,
+    default as :data:`DEFAULT_PI_Q`) for the load ``z_load_ohm(freq_hz)`` matched at ``f0_hz``,
+    with parts snapped to ``series``, and their S11 across the sweep.  ``band_hz`` (default:
+    f0 alone) is where the worst |S11| is judged to choose one."""
+    f = np.asarray(freq_hz, dtype=float)
+    z = np.asarray(z_load_ohm, dtype=complex)
+    if f.ndim != 1 or z.shape != f.shape or f.size < 2 or np.any(np.diff(f) <= 0):
+        raise SpecError("freq_hz", "array", "give rising frequencies and one load impedance for each")
+    if not (f[0] <= f0_hz <= f[-1]):
+        raise SpecError("f0_hz", f0_hz, f"must lie inside the sweep {f[0] / 1e6:.6g} .. {f[-1] / 1e6:.6g} MHz")
+    lo, hi = band_hz if band_hz is not None else (f0_hz, f0_hz)
+    z0 = _check_load(_interp_complex(f, z, f0_hz))
+    q = pi_q if pi_q is not None else max(DEFAULT_PI_Q, PI_Q_OVER_MINIMUM * minimum_pi_q(z0, r0_ohm))
+    networks: list[tuple[str, tuple[Part, ...]]] = [("direct", ())]
+    networks += [(f"L {m.topology}", m.parts) for m in l_networks(z0, f0_hz, r0_ohm)]
+    networks += [(f"pi Q {m.q_loaded:.3g}", m.parts) for m in pi_networks(z0, f0_hz, q, r0_ohm)]
+    in_band = (f >= lo) & (f <= hi)
+    candidates = []
+    for label, ideal in networks:
+        parts = snap_parts(ideal, series)
+        s11 = network_s11(f, parts, z, r0_ohm)
+        at_f0 = float(_db(np.array([_interp_complex(f, s11, f0_hz)]))[0])
+        worst = float(np.max(_db(s11[in_band]))) if np.any(in_band) else at_f0
+        candidates.append(MatchCandidate(label, ideal, parts, s11, at_f0, max(worst, at_f0)))
+    best = min(candidates, key=lambda c: c.worst_s11_db_in_band)
+    chosen = min(
+        (i for i, c in enumerate(candidates) if c.worst_s11_db_in_band <= best.worst_s11_db_in_band + EQUAL_WORST_DB),
+        key=lambda i: (len(candidates[i].parts), candidates[i].worst_s11_db_in_band),
+    )
+    return MatchPlan(float(f0_hz), z0, (float(lo), float(hi)), series, f, z, tuple(candidates), chosen)

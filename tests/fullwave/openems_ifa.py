@@ -264,9 +264,13 @@ class _StdoutToFile:
         os.close(fd)
         c_stdout = ctypes.c_void_p.in_dll(self.libc, "stdout")
         self.libc.setvbuf(c_stdout, None, 1, 0)  # _IOLBF
+        try:
+            echo: Any = sys.stderr.fileno()
+        except (AttributeError, OSError, ValueError):
+            echo = subprocess.DEVNULL  # stderr captured without a file descriptor
         self.tail = subprocess.Popen(
             ["tail", "-n", "+1", "-f", f"--pid={os.getpid()}", str(self.path)],
-            stdout=sys.stderr, stderr=subprocess.DEVNULL)
+            stdout=echo, stderr=subprocess.DEVNULL)
         return self
 
     def __exit__(self, *exc: object) -> None:

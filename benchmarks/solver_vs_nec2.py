@@ -1,0 +1,140 @@
+"""Benchmark: our thin-wire MoM against nec2++ (PyNEC) on the same wire models, plus a 201-point
+board-level sweep.
+
+Per model (a free-space wire IFA over a wire-grid ground, ~200 / 400 / 800 unknowns) both codes
+solve the same frequency list; seconds per frequency include each code's geometry set-up spread
+over the list; f_res = min |S11| (50 ohm) on that list.  Each timing is the best of REPEATS runs
+(the machine is shared).  BLAS is limited to one thread: nec2++ is single-threaded and the small
+LU solves gain nothing from a second thread on a shared two-core machine.
+
+Usage: python benchmarks/solver_vs_nec2.py   (last line: speedup_800=<x> sweep201_s=<s>)
+"""
+
+from __future__ import annotations
+
+import os
+
+for _var in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS"):
+    os.environ.setdefault(_var, "1")
+
+import dataclasses  # noqa: E402
+import importlib.util  # noqa: E402
+import sys  # noqa: E402
+import time  # noqa: E402
+from pathlib import Path  # noqa: E402
+
+import numpy as np  # noqa: E402
+
+from footgen.physics.ifa import GroundPlane, Laminate, PrintedIfa  # noqa: E402
+from footgen.physics.mom import MomSolver, Wire, WireModel  # noqa: E402
+from footgen.physics.predict import min_s11_frequency_hz, s11_from_zin, zin_ohm  # noqa: E402
+from footgen.physics.wires import MeshControl, ifa_wire_model  # noqa: E402
+
+ROOT = Path(__file__).resolve().parents[1]
+RUNNER_PATH = ROOT / "tests" / "data" / "mom" / "nec2_wire_runner.py"
+MM = 1e-3
+TARGET_UNKNOWNS = (200, 400, 800)
+BENCH_FREQS_HZ = np.linspace(1.95e9, 2.30e9, 8)
+F_MAX_HZ = 2.4e9
+UNIFORM_RADIUS_M = 0.01 * MM
+REPEATS = 3
+SWEEP_POINTS = 201
+SWEEP_BAND_HZ = (1.8e9, 3.2e9)
+
+
+def _runner():
+    spec = importlib.util.spec_from_file_location("nec2_wire_runner", RUNNER_PATH)
+    module = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(module)
+    return module
+
+
+def free_space_ifa() -> PrintedIfa:
+    """Invented wire IFA over a 40 mm x 40 mm ground (same as tests/test_mom_ifa_vs_nec2.py)."""
+    return PrintedIfa(
+        arm_path_m=((-14 * MM, 3 * MM), (18 * MM, 3 * MM)),
+        feed_x_m=-12 * MM,
+        short_x_m=-14 * MM,
+        trace_width_m=0.4 * MM,
+        short_width_m=0.4 * MM,
+        port_gap_m=0.8 * MM,
+        ground=GroundPlane(x_min_m=-20 * MM, x_max_m=20 * MM, length_m=40 * MM),
+        laminate=Laminate(eps_r=1.0, thickness_m=1.6 * MM),
+    )
+
+
+def board_ifa() -> PrintedIfa:
+    """Invented board-level demo: IFA on 1.6 mm FR-4 over a 36 mm x 40 mm ground."""
+    return PrintedIfa(
+        arm_path_m=((-13 * MM, 5 * MM), (7 * MM, 5 * MM)),
+        feed_x_m=-9.5 * MM,
+        short_x_m=-13 * MM,
+        trace_width_m=0.8 * MM,
+        short_width_m=0.8 * MM,
+        port_gap_m=0.6 * MM,
+        ground=GroundPlane(x_min_m=-18 * MM, x_max_m=18 * MM, length_m=40 * MM),
+        laminate=Laminate(eps_r=4.3, thickness_m=1.6 * MM, loss_tangent=0.02),
+    )
+
+
+def model_with_unknowns(target: int) -> WireModel:
+    """Scale all segmentation densities until the segment count is near ``target``."""
+    lo, hi = 0.2, 8.0
+    best = None
+    for _ in range(30):
+        scale = (lo * hi) ** 0.5
+        control = MeshControl(F_MAX_HZ, segments_per_wavelength=40.0 * scale, detail_segments=4.0 * scale,
+                              grid_pitch_per_wavelength=10.0 * scale)
+        model = ifa_wire_model(free_space_ifa(), F_MAX_HZ, with_laminate=False, with_loss=False, control=control)
+        if best is None or abs(model.n_segments - target) < abs(best.n_segments - target):
+            best = model
+        if model.n_segments < target:
+            lo = scale
+        else:
+            hi = scale
+        if abs(model.n_segments - target) <= 0.02 * target:
+            break
+    wires = tuple(Wire(w.start_m, w.end_m, w.n_segments, UNIFORM_RADIUS_M) for w in best.wires)
+    return dataclasses.replace(best, wires=wires, source_wire=1, source_segment=0)
+
+
+def best_time(fn, repeats: int = REPEATS):
+    best, out = float("inf"), None
+    for _ in range(repeats):
+        t0 = time.perf_counter()
+        out = fn()
+        best = min(best, time.perf_counter() - t0)
+    return best, out
+
+
+def main() -> int:
+    runner = _runner()
+    freqs = BENCH_FREQS_HZ
+    n_f = freqs.shape[0]
+    speedups = {}
+    print(f"# BLAS threads: OPENBLAS_NUM_THREADS={os.environ['OPENBLAS_NUM_THREADS']}; {n_f} frequencies per model")
+    print("# target  segments  our_unknowns  ours_s_per_f  nec2_s_per_f  ratio  f_res_ours_GHz  f_res_nec2_GHz  df_rel")
+    for target in TARGET_UNKNOWNS:
+        model = model_with_unknowns(target)
+        t_ours, z_ours = best_time(lambda: MomSolver(model).sweep_direct(freqs))
+        t_nec, z_nec = best_time(lambda: runner.nec2_zin_ohm(model, freqs))
+        n_unk = MomSolver(model).n_unknowns
+        f_ours = min_s11_frequency_hz(freqs, s11_from_zin(z_ours))
+        f_nec = min_s11_frequency_hz(freqs, s11_from_zin(z_nec))
+        ratio = (t_nec / n_f) / (t_ours / n_f)
+        speedups[target] = ratio
+        print(f"{target:7d}  {model.n_segments:8d}  {n_unk:12d}  {t_ours / n_f:12.4f}  {t_nec / n_f:12.4f}  "
+              f"{ratio:5.2f}  {f_ours / 1e9:14.4f}  {f_nec / 1e9:14.4f}  {f_ours / f_nec - 1.0:+.4f}", flush=True)
+    sweep = np.linspace(*SWEEP_BAND_HZ, SWEEP_POINTS)
+    board = board_ifa()
+    n_board = MomSolver(ifa_wire_model(board, float(sweep.max()))).n_unknowns
+    t_sweep, z_board = best_time(lambda: zin_ohm(board, sweep))
+    f_board = min_s11_frequency_hz(sweep, s11_from_zin(z_board))
+    print(f"# board-level model (IFA + ground grid + FR-4 slab): {n_board} unknowns, {SWEEP_POINTS}-point "
+          f"sweep {t_sweep:.3f} s (interpolated), f_res {f_board / 1e9:.4f} GHz")
+    print(f"speedup_800={speedups[800]:.2f} sweep201_s={t_sweep:.3f}")
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())

@@ -1,0 +1,318 @@
+"""One Markdown report per revision, with its images beside it.
+
+The report holds the copper drawing, the rule-check result, the predicted (model) and measured
+S11 on one plot, a Smith chart of the antenna and of the chosen match, the parts list, the
+before/after numbers and the safety caution.  :func:`report_files` returns the files as bytes
+(deterministic: a rerun gives identical bytes); :func:`write_report` writes them atomically.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Callable
+
+import numpy as np
+
+from footgen import sizing
+from footgen.build import SAFETY_NOTE
+from footgen.geometry.layout import Layout, Sizing, build_layout
+from footgen.outputs import write_outputs
+from footgen.rf import matching, touchstone
+from footgen.rf.touchstone import Measurement
+from footgen.errors import MeasurementError
+from footgen.rules import Violation, check
+from footgen.spec import Spec
+
+Z0_OHM = 50.0
+#: Predicted sweep without a measurement: band centre +- this fraction (dimensionless).
+PREDICTED_SPAN = 0.25
+PREDICTED_POINTS = 601
+#: Constant-resistance circles and constant-reactance arcs drawn on the Smith chart.
+SMITH_R = (0.0, 0.2, 0.5, 1.0, 2.0, 5.0)
+SMITH_X = (0.2, 0.5, 1.0, 2.0, 5.0)
+SMITH_ARC_POINTS = 721
+MATCH_LEVEL_DB = touchstone.MATCH_LEVEL_DB
+
+Progress = Callable[[str], None]
+
+
+def _quiet(_: str) -> None:
+    return None  # the same silent default as footgen.retune, kept local to avoid its import cost
+
+
+# --------------------------------------------------------------------------------- Smith chart
+
+
+def gamma_from_z(z_norm: np.ndarray | complex) -> np.ndarray:
+    """Reflection coefficient of a normalised impedance, (z - 1)/(z + 1)."""
+    z = np.asarray(z_norm, dtype=complex)
+    return (z - 1.0) / (z + 1.0)
+
+
+def smith_r_circle(r: float) -> tuple[tuple[float, float], float]:
+    """Centre and radius of the constant-resistance circle r in the Gamma plane:
+    centre (r/(1+r), 0), radius 1/(1+r) (Pozar, Microwave Engineering, 4th ed., sec. 2.4,
+    from memory)."""
+    return (r / (1.0 + r), 0.0), 1.0 / (1.0 + r)
+
+
+def smith_x_circle(x: float) -> tuple[tuple[float, float], float]:
+    """Centre and radius of the constant-reactance circle x (x != 0): centre (1, 1/x),
+    radius 1/|x| (Pozar, 4th ed., sec. 2.4, from memory); only its part inside |Gamma| <= 1
+    belongs to the chart."""
+    return (1.0, 1.0 / x), 1.0 / abs(x)
+
+
+def _smith_axes(ax) -> None:
+    t = np.linspace(0.0, 2.0 * np.pi, SMITH_ARC_POINTS)
+    for r in SMITH_R:
+        (cx, cy), rad = smith_r_circle(r)
+        ax.plot(cx + rad * np.cos(t), cy + rad * np.sin(t), color="#a0aec0" if r else "black", lw=0.5 if r else 1.0)
+    for x in SMITH_X:
+        for sign in (1.0, -1.0):
+            (cx, cy), rad = smith_x_circle(sign * x)
+            px, py = cx + rad * np.cos(t), cy + rad * np.sin(t)
+            inside = px * px + py * py <= 1.0 + 1e-12
+            px, py = np.where(inside, px, np.nan), np.where(inside, py, np.nan)
+            ax.plot(px, py, color="#a0aec0", lw=0.5)
+    ax.plot([-1.0, 1.0], [0.0, 0.0], color="#a0aec0", lw=0.5)
+    ax.set_xlim(-1.05, 1.05)
+    ax.set_ylim(-1.05, 1.05)
+    ax.set_aspect("equal")
+    ax.set_xticks([])
+    ax.set_yticks([])
+
+
+# --------------------------------------------------------------------------------- content
+
+
+@dataclass(frozen=True)
+class ReportData:
+    """Everything the report shows, as numbers."""
+
+    spec: Spec
+    model: str
+    sizing: Sizing
+    layout: Layout
+    violations: tuple[Violation, ...]
+    freq_hz: np.ndarray
+    predicted_s11: np.ndarray
+    measured: Measurement | None
+    plan: matching.MatchPlan
+    matched_on: str  # "measured", "corrected prediction" or "predicted"
+    corrected_s11: np.ndarray | None = None  # the prediction carried over by a calibration
+    calibration: object | None = None  # footgen.retune.Calibration of the previous revision
+
+
+def _sweep(spec: Spec, measurement: Measurement | None) -> np.ndarray:
+    if measurement is not None:
+        return np.asarray(measurement.freq_hz, dtype=float)
+    f0 = spec.target.center_hz
+    return np.linspace((1 - PREDICTED_SPAN) * f0, (1 + PREDICTED_SPAN) * f0, PREDICTED_POINTS)
+
+
+def prepare(spec: Spec, measurement: Measurement | None = None, *, calibration=None, model: str = sizing.DEFAULT_MODEL,
+            series: str = "E24", progress: Progress | None = None) -> ReportData:
+    """Size, lay out, check, predict and match ``spec``.  The match uses the measured Zin when
+    given, else the prediction corrected by ``calibration`` (a :class:`footgen.retune.Calibration`
+    from the previous revision's measurement) when given, else the plain prediction."""
+    from footgen.retune import corrected_zin_ohm, model_zin_ohm
+
+    say = progress or _quiet
+    say(f"report: sizing {spec.name} revision {spec.revision} with the {model} model")
+    sz = sizing.size(spec, model=model)
+    layout = build_layout(spec, sz)
+    say("report: rule check")
+    violations = tuple(check(layout, spec.fab))
+    f = _sweep(spec, measurement)
+    say(f"report: predicting S11 at {f.size} frequencies")
+    z_pred = model_zin_ohm(spec, sz, f, model)
+    s_pred = (z_pred - Z0_OHM) / (z_pred + Z0_OHM)
+    s_corr = None
+    if calibration is not None:
+        z_corr = corrected_zin_ohm(spec, sz, f, calibration, model)
+        s_corr = (z_corr - Z0_OHM) / (z_corr + Z0_OHM)
+    if measurement is not None:
+        z_load = measurement.z0_ohm * (1 + measurement.s11) / (1 - measurement.s11)
+        matched_on = "measured"
+    elif calibration is not None:
+        z_load, matched_on = z_corr, "corrected prediction"
+    else:
+        z_load, matched_on = z_pred, "predicted"
+    f0 = spec.target.center_hz
+    if not (f[0] <= f0 <= f[-1]):
+        raise MeasurementError(
+            f"{measurement.source if measurement else 'sweep'}: the band centre {f0 / 1e6:.2f} MHz lies outside the sweep; "
+            "measure across the band"
+        )
+    band = (max(spec.target.low_hz, f[0]), min(spec.target.high_hz, f[-1]))
+    say(f"report: matching networks at {f0 / 1e6:.2f} MHz ({matched_on} Zin, {series})")
+    plan = matching.plan_match(f, z_load, f0, band_hz=band, series=series)
+    return ReportData(spec, model, sz, layout, violations, f, s_pred, measurement, plan, matched_on, s_corr, calibration)
+
+
+def _stem(spec: Spec) -> str:
+    return f"{spec.name}-r{spec.revision}"
+
+
+def s11_figure(data: ReportData):
+    from matplotlib.figure import Figure
+
+    fig = Figure(figsize=(8.0, 4.5))
+    ax = fig.add_subplot(1, 1, 1)
+    mhz = data.freq_hz / 1e6
+    lo, hi = data.spec.target.low_hz / 1e6, data.spec.target.high_hz / 1e6
+    ax.axvspan(lo, hi, color="#e2e8f0", label="target band")
+    ax.axhline(MATCH_LEVEL_DB, color="#718096", lw=0.6, ls=":")
+    ax.plot(mhz, touchstone.s11_db(data.predicted_s11), color="#2b6cb0", lw=1.2, label=f"predicted ({data.model} model)")
+    if data.corrected_s11 is not None:
+        ax.plot(mhz, touchstone.s11_db(data.corrected_s11), color="#6b46c1", lw=1.2, ls="-.",
+                label="predicted, corrected by the previous measurement")
+    if data.measured is not None:
+        ax.plot(data.measured.freq_hz / 1e6, touchstone.s11_db(data.measured.s11), color="#c53030", lw=1.2, label="measured")
+    best = data.plan.best
+    if best.parts:
+        ax.plot(mhz, touchstone.s11_db(best.s11), color="#2f855a", lw=1.0, ls="--", label=f"{data.matched_on} with match ({best.label})")
+    ax.set_xlabel("frequency (MHz)", fontsize=8)
+    ax.set_ylabel("|S11| (dB)", fontsize=8)
+    ax.set_title(f"{data.spec.name} revision {data.spec.revision}: S11 against 50 ohm", fontsize=9)
+    ax.tick_params(labelsize=7)
+    ax.legend(fontsize=7, loc="lower left")
+    ax.grid(True, lw=0.3)
+    fig.tight_layout()
+    return fig
+
+
+def smith_figure(data: ReportData):
+    from matplotlib.figure import Figure
+
+    fig = Figure(figsize=(5.5, 5.5))
+    ax = fig.add_subplot(1, 1, 1)
+    _smith_axes(ax)
+    in_band = (data.freq_hz >= data.plan.band_hz[0]) & (data.freq_hz <= data.plan.band_hz[1])
+    antenna = gamma_from_z(data.plan.z_load_ohm / Z0_OHM)
+    ax.plot(antenna.real, antenna.imag, color="#c53030" if data.measured is not None else "#2b6cb0", lw=0.8,
+            label=f"antenna ({data.matched_on})")
+    ax.plot(antenna.real[in_band], antenna.imag[in_band], color="#c53030" if data.measured is not None else "#2b6cb0", lw=2.0)
+    best = data.plan.best
+    ax.plot(best.s11.real, best.s11.imag, color="#2f855a", lw=0.8, ls="--", label=f"with {best.label}")
+    ax.plot(best.s11.real[in_band], best.s11.imag[in_band], color="#2f855a", lw=2.0)
+    g0 = gamma_from_z(data.plan.z_at_f0_ohm / Z0_OHM)
+    ax.plot([g0.real], [g0.imag], "o", color="black", ms=3, label=f"f0 {data.plan.f0_hz / 1e6:.2f} MHz")
+    ax.legend(fontsize=7, loc="lower left")
+    ax.set_title("Smith chart (50 ohm); thick: target band", fontsize=9)
+    fig.tight_layout()
+    return fig
+
+
+def _band_text(freq_hz: np.ndarray, s11: np.ndarray, f0_hz: float) -> str:
+    for lo, hi in touchstone.band_below_db(freq_hz, s11, MATCH_LEVEL_DB):
+        if lo <= f0_hz <= hi:
+            return f"{lo / 1e6:.1f} .. {hi / 1e6:.1f} MHz ({(hi - lo) / 1e6:.1f} MHz)"
+    return "none around f0"
+
+
+def markdown(data: ReportData, images: dict[str, str], diff_md: str | None = None) -> str:
+    from footgen.retune import measured_dip, model_dip, model_ifa
+
+    spec, sz, d, plan = data.spec, data.sizing, data.layout.dims, data.plan
+    f0 = plan.f0_hz
+    lines = [f"# {spec.name}, revision {spec.revision}", ""]
+    if spec.history:
+        lines += ["History:", ""] + [f"- revision {n}: {note}" for n, note in spec.history] + [""]
+    lines += [f"![copper]({images['copper']})", "", "## Antenna", "", "| quantity | value |", "| --- | --- |",
+              f"| band | {spec.target.low_hz / 1e6:g} to {spec.target.high_hz / 1e6:g} MHz |",
+              f"| arm length | {d['arm_length_mm']:.3f} mm |",
+              f"| arm height | {d['arm_height_mm']:.3f} mm |",
+              f"| feed-to-short spacing | {d['feed_short_spacing_mm']:.3f} mm |",
+              f"| copper area | {d['copper_area_mm2']:.2f} mm^2 |",
+              f"| sizing | {sz.method} |", ""]
+    lines += ["## Rule check", ""]
+    lines += [f"- {v.line()}" for v in data.violations] or [f"No violations against fab profile `{spec.fab.name}`."]
+    lines += ["", "## S11", "", f"![S11]({images['s11']})", ""]
+    pred = model_dip(model_ifa(spec, sz, data.model), data.model)
+    lines += ["| | dip | \\|S11\\| at dip | Zin at dip | -10 dB band around f0 |", "| --- | --- | --- | --- | --- |",
+              f"| predicted | {pred.freq_hz / 1e6:.2f} MHz | {pred.s11_db:.1f} dB | {_z(pred.zin_ohm)} | "
+              f"{_band_text(data.freq_hz, data.predicted_s11, f0)} |"]
+    if data.corrected_s11 is not None:
+        cal = data.calibration
+        f_c, level_c = touchstone.min_s11_db(data.freq_hz, data.corrected_s11)
+        z_c = touchstone.zin_at(data.freq_hz, data.corrected_s11, f_c)
+        lines.append(f"| corrected prediction | {f_c / 1e6:.2f} MHz | {level_c:.1f} dB | {_z(z_c)} | "
+                     f"{_band_text(data.freq_hz, data.corrected_s11, f0)} |")
+        lines += ["", f"Corrected by the measurement `{Path(cal.source).name}` of the previous revision: frequency x "
+                      f"{cal.freq_ratio:.4f}, resistance x {cal.r_ratio:.4f} (measured / model at the dip)."]
+    if data.measured is not None:
+        meas = measured_dip(data.measured, pred.freq_hz)
+        lines.append(f"| measured | {meas.freq_hz / 1e6:.2f} MHz | {meas.s11_db:.1f} dB | {_z(meas.zin_ohm)} | "
+                     f"{_band_text(data.measured.freq_hz, data.measured.s11, f0)} |")
+        lines += ["", f"Measured / predicted dip frequency: {meas.freq_hz / pred.freq_hz:.4f}."]
+    best = plan.best
+    direct = plan.candidates[0]
+    lines += ["", "## Match", "", f"![Smith chart]({images['smith']})", "",
+              f"Matched on the {data.matched_on} input impedance {_z(plan.z_at_f0_ohm)} at {f0 / 1e6:.2f} MHz; "
+              f"parts snapped to {plan.series}; ideal parts (no part Q, no parasitics).", "",
+              "| network | parts | \\|S11\\| at f0 | worst \\|S11\\| in band |", "| --- | --- | --- | --- |"]
+    for i, c in enumerate(plan.candidates):
+        mark = " (chosen)" if i == plan.chosen else ""
+        lines.append(f"| {c.label}{mark} | {', '.join(p.describe() for p in c.parts) or 'direct connection'} | "
+                     f"{c.s11_db_at_f0:.1f} dB | {c.worst_s11_db_in_band:.1f} dB |")
+    lines += ["", "Parts list of the chosen match (source side first):", ""]
+    lines += [f"{i}. {p.describe()}" for i, p in enumerate(best.parts, start=1)] or ["No parts: connect directly."]
+    lines += ["", "## Before / after", "", "| | without match | with the chosen match |", "| --- | --- | --- |",
+              f"| \\|S11\\| at f0 | {direct.s11_db_at_f0:.1f} dB | {best.s11_db_at_f0:.1f} dB |",
+              f"| worst \\|S11\\| in band | {direct.worst_s11_db_in_band:.1f} dB | {best.worst_s11_db_in_band:.1f} dB |",
+              f"| -10 dB band around f0 | {_band_text(plan.freq_hz, direct.s11, f0)} | {_band_text(plan.freq_hz, best.s11, f0)} |", ""]
+    if diff_md:
+        lines += [diff_md, f"![overlay]({images['overlay']})", ""]
+    lines += ["## Caution", "", SAFETY_NOTE, ""]
+    return "\n".join(lines)
+
+
+def _z(z: complex) -> str:
+    return f"{z.real:.1f} {'+' if z.imag >= 0 else '-'} j{abs(z.imag):.1f} ohm"
+
+
+def report_files(spec: Spec, measurement: Measurement | None = None, *, previous: Spec | None = None,
+                 calibration=None, model: str = sizing.DEFAULT_MODEL, series: str = "E24",
+                 progress: Progress | None = None) -> dict[str, bytes]:
+    """The report's files (relative names -> bytes)."""
+    from footgen.draw import render_svg_png
+    from footgen.revdiff import diff_layouts, diff_markdown, overlay_svg_png, spec_changes, svg_png_bytes
+
+    say = progress or _quiet
+    data = prepare(spec, measurement, calibration=calibration, model=model, series=series, progress=say)
+    stem = _stem(spec)
+    files: dict[str, bytes] = {}
+    images = {}
+    say("report: drawing")
+    subtitle = f"{spec.target.low_hz / 1e6:g}-{spec.target.high_hz / 1e6:g} MHz, {spec.style.kind}, revision {spec.revision}"
+    drawings = {"copper": render_svg_png(data.layout, spec.name, subtitle),
+                "s11": svg_png_bytes(s11_figure(data)),
+                "smith": svg_png_bytes(smith_figure(data))}
+    diff_md = None
+    if previous is not None:
+        say("report: comparing with the previous revision")
+        old_layout = build_layout(previous, sizing.size(previous, model=model))
+        diff = diff_layouts(old_layout, data.layout, f"{previous.name} rev {previous.revision}", f"{spec.name} rev {spec.revision}",
+                            spec_changes(previous.raw, spec.raw))
+        diff_md = diff_markdown(diff)
+        drawings["overlay"] = overlay_svg_png(diff)
+    for key, (svg, png) in drawings.items():
+        files[f"{stem}.{key}.svg"] = svg
+        files[f"{stem}.{key}.png"] = png
+        images[key] = f"{stem}.{key}.png"
+    files[f"{stem}.report.md"] = markdown(data, images, diff_md).encode("utf-8")
+    return files
+
+
+def write_report(spec: Spec, out_dir: Path, measurement: Measurement | None = None, *, previous: Spec | None = None,
+                 calibration=None, model: str = sizing.DEFAULT_MODEL, series: str = "E24", force: bool = False,
+                 progress: Progress | None = None) -> list[Path]:
+    """Write the report and its images into ``out_dir`` (atomically; files edited by hand are
+    only replaced with ``force``)."""
+    files = report_files(spec, measurement, previous=previous, calibration=calibration, model=model, series=series,
+                         progress=progress)
+    (progress or _quiet)(f"report: writing {len(files)} files into {out_dir}")
+    return write_outputs(Path(out_dir), files, force=force)

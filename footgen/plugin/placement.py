@@ -1,0 +1,473 @@
+"""Put a generated antenna footprint on a board, or replace an existing one (no GUI).
+
+The footprint origin is the feed point on the ground edge, so "placing" means putting the
+origin on a point of the board's ground edge with a rotation.  Replacing keeps what the board
+already decided for the old instance: position, rotation, side, lock, reference, schematic
+link and the net of every pad (by pad number).  New instances get pad 1 on the RF net and all
+pads 2 on the GND net, by name (made if the board lacks them).
+
+``pcbnew`` is imported inside the functions that need it, so the board-free helpers (project
+library table, stackup reading) work without KiCad.  Headless use (and the tests)::
+
+    python3 -m footgen.plugin.placement BOARD.kicad_pcb SPEC.json [--at X Y] [--rotation DEG]
+        [--reference AE1] [--rf-net RF_ANT] [--gnd-net GND] [--force] [--allow-violations]
+    python3 -m footgen.plugin.placement --describe BOARD.kicad_pcb
+
+The zones are not refilled (press B in KiCad, or ``footgen.plugin.board.fill_zones`` in a
+fresh process: KiCad 9 cannot load the same board twice in one process).
+"""
+
+from __future__ import annotations
+
+import argparse
+import hashlib
+import json
+import os
+import re
+import shutil
+import sys
+from dataclasses import asdict, dataclass, field
+from pathlib import Path
+
+from . import cli_runner
+
+#: Library nickname and folder (inside the project) that receive the generated footprints.
+PROJECT_LIBRARY = cli_runner.DEFAULT_LIBRARY
+#: Folder (inside the project) holding the specs and footgen's build outputs.
+WORK_DIR_NAME = "footgen"
+DEFAULT_RF_NET = "RF_ANT"
+DEFAULT_GND_NET = "GND"
+DEFAULT_REFERENCE = "AE1"
+FEED_PAD = "1"
+#: footgen's record of the files it wrote into a folder (see footgen/outputs.py).
+MANIFEST_NAME = "footgen-manifest.json"
+#: Largest deviation of a polygon from a pad's true outline in :func:`describe` (mm).
+OUTLINE_MAX_ERROR_MM = 0.001
+
+
+class PlacementError(RuntimeError):
+    """The footprint could not be loaded, found or placed."""
+
+
+class RuleCheckFailed(PlacementError):
+    """footgen's rule check found errors, so nothing was placed; ``build`` says which."""
+
+    def __init__(self, message: str, build: cli_runner.BuildResult) -> None:
+        super().__init__(message)
+        self.build = build
+
+
+@dataclass(frozen=True)
+class Placement:
+    """Where and how a footprint instance sits on the board (KiCad mm, y down)."""
+
+    position_mm: tuple[float, float]
+    rotation_deg: float
+    reference: str
+    flipped: bool = False
+    locked: bool = False
+    pad_nets: dict[str, str] = field(default_factory=dict)  # pad number -> net name
+
+
+@dataclass(frozen=True)
+class Outcome:
+    """Result of :func:`regenerate`: the build, the placement used and whether it replaced."""
+
+    build: cli_runner.BuildResult
+    placement: Placement
+    replaced: bool
+    library_added: bool
+    footprint_file: Path
+
+
+# --- project library (no pcbnew) -------------------------------------------------------------
+
+_LIB_NAME_RE = re.compile(r'\(lib\s+\(name\s+"?([^")\s]+)"?\)')
+
+
+def library_table_names(text: str) -> list[str]:
+    """Nicknames of the libraries in an fp-lib-table text."""
+    return _LIB_NAME_RE.findall(text)
+
+
+def ensure_project_library(project_dir: Path, nickname: str = PROJECT_LIBRARY) -> bool:
+    """Add ``<project>/<nickname>.pretty`` to the project fp-lib-table if no library of that
+    nickname is there yet (creating the table if needed).  True if the table was changed."""
+    table = Path(project_dir) / "fp-lib-table"
+    entry = f'  (lib (name "{nickname}")(type "KiCad")(uri "${{KIPRJMOD}}/{nickname}.pretty")(options "")(descr "footgen antenna footprints"))\n'
+    if table.exists():
+        text = table.read_text("utf-8")
+        if nickname in library_table_names(text):
+            return False
+        end = text.rstrip().rfind(")")
+        if not text.lstrip().startswith("(fp_lib_table") or end < 0:
+            raise PlacementError(f"{table}: not a KiCad footprint library table; fix or delete it")
+        text = text[:end].rstrip() + "\n" + entry + ")\n"
+    else:
+        text = "(fp_lib_table\n  (version 7)\n" + entry + ")\n"
+    tmp = table.with_name(".fp-lib-table.tmp")
+    tmp.write_text(text, "utf-8")
+    os.replace(tmp, table)
+    return True
+
+
+def _manifest_hash(folder: Path, relpath: str) -> str | None:
+    """SHA-256 that footgen recorded for ``relpath`` in ``folder``'s footgen-manifest.json."""
+    path = Path(folder) / MANIFEST_NAME
+    try:
+        return json.loads(path.read_text("utf-8")).get("files", {}).get(relpath)
+    except (OSError, json.JSONDecodeError, AttributeError):
+        return None
+
+
+def install_footprint(built: Path, project_dir: Path, *, previous: bytes | None, force: bool = False, nickname: str = PROJECT_LIBRARY) -> Path:
+    """Copy a built ``.kicad_mod`` into the project library.  An installed file that is
+    neither ``previous`` (what footgen built last time) nor what a ``footgen build -o
+    <project>`` recorded in the project's manifest was edited by hand: refused unless ``force``."""
+    target = Path(project_dir) / f"{nickname}.pretty" / Path(built).name
+    if target.exists() and not force:
+        current = target.read_bytes()
+        known = {hashlib.sha256(Path(built).read_bytes()).hexdigest(), _manifest_hash(Path(project_dir), f"{nickname}.pretty/{target.name}")}
+        if previous is not None:
+            known.add(hashlib.sha256(previous).hexdigest())
+        if hashlib.sha256(current).hexdigest() not in known:
+            raise PlacementError(f"{target} was edited by hand since footgen wrote it; keep your edits elsewhere or use force")
+    target.parent.mkdir(parents=True, exist_ok=True)
+    tmp = target.with_name(f".{target.name}.tmp")
+    shutil.copyfile(built, tmp)
+    os.replace(tmp, target)
+    return target
+
+
+# --- stackup (no pcbnew: KiCad 9's Python cannot read the stackup, the board file can) ------
+
+_TOKEN_RE = re.compile(r'\(|\)|"(?:[^"\\]|\\.)*"|[^\s()]+')
+
+
+def _sexpr(text: str) -> list:
+    """Parse one KiCad s-expression into nested lists of strings."""
+    stack: list[list] = [[]]
+    for tok in _TOKEN_RE.findall(text):
+        if tok == "(":
+            stack.append([])
+        elif tok == ")":
+            done = stack.pop()
+            stack[-1].append(done)
+        else:
+            stack[-1].append(tok[1:-1] if tok.startswith('"') else tok)
+    return stack[0][0] if stack[0] else []
+
+
+def _children(node: list, key: str) -> list[list]:
+    return [c for c in node[1:] if isinstance(c, list) and c and c[0] == key]
+
+
+def _setup_block(board_text: str) -> str | None:
+    start = board_text.find("(setup")
+    if start < 0:
+        return None
+    depth = 0
+    for i in range(start, len(board_text)):
+        ch = board_text[i]
+        if ch == "(":
+            depth += 1
+        elif ch == ")":
+            depth -= 1
+            if depth == 0:
+                return board_text[start : i + 1]
+    return None
+
+
+def stackup_laminate(board_text: str) -> dict | None:
+    """Laminate fields for a spec from a board file's stackup: ``thickness_mm`` = sum of the
+    dielectric layers, ``eps_r`` and ``loss_tangent`` = thickness-weighted means of the
+    dielectric layers that state them.  None if the board has no stackup with dielectrics."""
+    block = _setup_block(board_text)
+    if block is None:
+        return None
+    stackups = _children(_sexpr(block), "stackup")
+    if not stackups:
+        return None
+    total = eps_sum = eps_thick = tan_sum = tan_thick = 0.0
+    for layer in _children(stackups[0], "layer"):
+        kinds = _children(layer, "type")
+        if not kinds or kinds[0][1] not in ("core", "prepreg"):
+            continue
+        # a dielectric may hold sub-layers: (thickness ..)(epsilon_r ..) repeat per sub-layer
+        thickness = [float(t[1]) for t in _children(layer, "thickness")]
+        eps = [float(e[1]) for e in _children(layer, "epsilon_r")]
+        tan = [float(t[1]) for t in _children(layer, "loss_tangent")]
+        for i, t_mm in enumerate(thickness):
+            total += t_mm
+            if i < len(eps):
+                eps_sum += eps[i] * t_mm
+                eps_thick += t_mm
+            if i < len(tan):
+                tan_sum += tan[i] * t_mm
+                tan_thick += t_mm
+    if total <= 0.0:
+        return None
+    out = {"thickness_mm": round(total, 6)}
+    if eps_thick > 0:
+        out["eps_r"] = round(eps_sum / eps_thick, 4)
+    if tan_thick > 0:
+        out["loss_tangent"] = round(tan_sum / tan_thick, 5)
+    return out
+
+
+# --- board work (pcbnew) ---------------------------------------------------------------------
+
+def _to_mm(value: int) -> float:
+    import pcbnew
+
+    return round(pcbnew.ToMM(value), 6) + 0.0
+
+
+def find_instances(board, name: str, library: str = PROJECT_LIBRARY) -> list:
+    """Footprints on the board made from ``library:name``."""
+    out = []
+    for fp in board.GetFootprints():
+        fpid = fp.GetFPID()
+        if str(fpid.GetLibItemName()) == name and str(fpid.GetLibNickname()) == library:
+            out.append(fp)
+    return out
+
+
+def find_reference(board, reference: str):
+    for fp in board.GetFootprints():
+        if fp.GetReference() == reference:
+            return fp
+    return None
+
+
+def capture(footprint) -> Placement:
+    """The placement of an existing instance."""
+    pos = footprint.GetPosition()
+    return Placement(
+        position_mm=(_to_mm(pos.x), _to_mm(pos.y)),
+        rotation_deg=round(footprint.GetOrientationDegrees(), 6) + 0.0,
+        reference=footprint.GetReference(),
+        flipped=bool(footprint.IsFlipped()),
+        locked=bool(footprint.IsLocked()),
+        pad_nets={p.GetNumber(): p.GetNetname() for p in footprint.Pads() if p.GetNetname()},
+    )
+
+
+def ensure_nets(board, rf_net: str = DEFAULT_RF_NET, gnd_net: str = DEFAULT_GND_NET) -> dict:
+    """{"rf": net, "gnd": net} by name, adding missing nets to the board."""
+    return {"rf": ensure_net(board, rf_net), "gnd": ensure_net(board, gnd_net)}
+
+
+def ensure_net(board, name: str):
+    import pcbnew
+
+    net = board.FindNet(name)
+    if net is None:
+        net = pcbnew.NETINFO_ITEM(board, name)
+        board.Add(net)
+    return net
+
+
+def load_footprint(pretty_dir: Path, name: str, nickname: str = PROJECT_LIBRARY):
+    """Load ``name`` from a ``.pretty`` folder, with its FPID set to ``nickname:name``."""
+    import pcbnew
+
+    footprint = pcbnew.FootprintLoad(str(pretty_dir), name)
+    if footprint is None:
+        raise PlacementError(f"KiCad could not load footprint {name!r} from {pretty_dir}")
+    footprint.SetFPID(pcbnew.LIB_ID(nickname, name))
+    return footprint
+
+
+def apply_placement(board, footprint, placement: Placement, nets: dict) -> None:
+    """Put ``footprint`` (not yet on the board) where ``placement`` says and wire its pads:
+    each pad takes the net ``placement.pad_nets`` names for its number, else the role net."""
+    import pcbnew
+
+    from .board import assign_nets
+
+    x_mm, y_mm = placement.position_mm
+    footprint.SetPosition(pcbnew.VECTOR2I(pcbnew.FromMM(x_mm), pcbnew.FromMM(y_mm)))
+    if placement.flipped:  # flip first: flipping mirrors the orientation
+        footprint.Flip(footprint.GetPosition(), pcbnew.FLIP_DIRECTION_TOP_BOTTOM)
+    footprint.SetOrientationDegrees(float(placement.rotation_deg))
+    footprint.SetReference(placement.reference)
+    board.Add(footprint)
+    assign_nets(footprint, nets)
+    for pad in footprint.Pads():
+        kept = placement.pad_nets.get(pad.GetNumber())
+        if kept:
+            pad.SetNet(ensure_net(board, kept))
+    footprint.SetLocked(placement.locked)
+
+
+def place_new(board, pretty_dir: Path, name: str, placement: Placement, *, rf_net: str = DEFAULT_RF_NET, gnd_net: str = DEFAULT_GND_NET):
+    """Add a new instance of ``name`` at ``placement``; pad 1 on ``rf_net``, pads 2 on ``gnd_net``."""
+    footprint = load_footprint(pretty_dir, name)
+    apply_placement(board, footprint, placement, ensure_nets(board, rf_net, gnd_net))
+    return footprint
+
+
+def replace(board, old, pretty_dir: Path, name: str, *, rf_net: str = DEFAULT_RF_NET, gnd_net: str = DEFAULT_GND_NET):
+    """Swap ``old`` for a fresh load of ``name``, keeping placement, reference, nets and the
+    schematic link; returns the new footprint."""
+    kept = capture(old)
+    footprint = load_footprint(pretty_dir, name)
+    footprint.SetPath(old.GetPath())
+    for getter, setter in (("GetSheetname", "SetSheetname"), ("GetSheetfile", "SetSheetfile")):
+        if hasattr(old, getter) and hasattr(footprint, setter):
+            getattr(footprint, setter)(getattr(old, getter)())
+    board.Remove(old)
+    apply_placement(board, footprint, kept, ensure_nets(board, rf_net, gnd_net))
+    return footprint
+
+
+def default_placement(board, name: str, reference: str | None = None) -> tuple[Placement, bool]:
+    """Where the dialog proposes to put ``name``: the existing instance (True: it will be
+    replaced in place), else the board's grid origin if set, else the centre of the board
+    outline, with rotation 0."""
+    existing = find_reference(board, reference) if reference else None
+    if existing is None:
+        found = find_instances(board, name)
+        existing = found[0] if found else None
+    if existing is not None:
+        return capture(existing), True
+    origin = board.GetDesignSettings().GetGridOrigin()
+    if origin.x == 0 and origin.y == 0:
+        origin = board.GetBoardEdgesBoundingBox().GetCenter()
+    return Placement((_to_mm(origin.x), _to_mm(origin.y)), 0.0, reference or next_reference(board)), False
+
+
+def next_reference(board, prefix: str = "AE") -> str:
+    """The first free ``AE<n>`` reference on the board."""
+    used = {fp.GetReference() for fp in board.GetFootprints()}
+    n = 1
+    while f"{prefix}{n}" in used:
+        n += 1
+    return f"{prefix}{n}"
+
+
+def project_dir_of(board) -> Path:
+    name = board.GetFileName()
+    if not name:
+        raise PlacementError("save the board first: the footprint library goes into its project folder")
+    return Path(name).resolve().parent
+
+
+def regenerate(
+    board,
+    spec_path: Path,
+    *,
+    placement: Placement | None = None,
+    reference: str | None = None,
+    rf_net: str = DEFAULT_RF_NET,
+    gnd_net: str = DEFAULT_GND_NET,
+    force: bool = False,
+    allow_violations: bool = False,
+    cmd: list[str] | None = None,
+    project_dir: Path | None = None,
+) -> Outcome:
+    """Build ``spec_path`` with the footgen command into ``<project>/footgen/``, install the
+    footprint into ``<project>/footgen_antennas.pretty`` (adding it to the project fp-lib-table
+    if missing) and put it on the board: every instance of that footprint (or the one called
+    ``reference``) is replaced in place; with none, a new one goes to ``placement``.
+
+    Raises :class:`PlacementError` when the rule check fails and ``allow_violations`` is off
+    (nothing on the board changes then), or when there is nothing to replace and no placement.
+    """
+    project = Path(project_dir) if project_dir else project_dir_of(board)
+    spec = cli_runner.read_spec(spec_path)
+    name = str(spec["name"])
+    targets = _targets(board, name, reference)
+    if not targets and placement is None:
+        raise PlacementError(f"no footprint {PROJECT_LIBRARY}:{name} on the board to replace; give a position")
+    work = project / WORK_DIR_NAME
+    staged = work / f"{spec.get('library', PROJECT_LIBRARY)}.pretty" / f"{name}.kicad_mod"
+    previous = staged.read_bytes() if staged.exists() else None
+    result = cli_runner.build(spec_path, work, cmd, force=force, allow_violations=allow_violations)
+    if not result.footprint_path.exists() or (not result.ok and not allow_violations):
+        raise RuleCheckFailed(result.summary() + "\nNo footprint placed; fix the spec or allow violations.", result)
+    installed = install_footprint(result.footprint_path, project, previous=previous, force=force)
+    added = ensure_project_library(project)
+    pretty = installed.parent
+    if targets:
+        placed = [replace(board, old, pretty, name, rf_net=rf_net, gnd_net=gnd_net) for old in targets]
+        return Outcome(result, capture(placed[0]), True, added, installed)
+    if reference:
+        placement = Placement(placement.position_mm, placement.rotation_deg, reference, placement.flipped, placement.locked, dict(placement.pad_nets))
+    footprint = place_new(board, pretty, name, placement, rf_net=rf_net, gnd_net=gnd_net)
+    return Outcome(result, capture(footprint), False, added, installed)
+
+
+def _targets(board, name: str, reference: str | None) -> list:
+    """The instances to replace: the one called ``reference`` (which must be a footgen
+    footprint), else every instance of ``name``."""
+    if not reference:
+        return find_instances(board, name)
+    found = find_reference(board, reference)
+    if found is None:
+        return []
+    if str(found.GetFPID().GetLibNickname()) != PROJECT_LIBRARY:
+        raise PlacementError(f"{reference} is {found.GetFPIDAsString()}, not a footgen antenna: choose another reference")
+    return [found]
+
+
+def describe(board) -> list[dict]:
+    """Every footprint's FPID, placement and pad-1 copper (board mm), as JSON-able data."""
+    import pcbnew
+
+    out = []
+    for fp in board.GetFootprints():
+        entry = asdict(capture(fp))
+        entry["fpid"] = fp.GetFPIDAsString()
+        feed = [p for p in fp.Pads() if p.GetNumber() == FEED_PAD]
+        rings = []
+        if feed:
+            poly = pcbnew.SHAPE_POLY_SET()
+            feed[0].TransformShapeToPolygon(poly, pcbnew.F_Cu, 0, pcbnew.FromMM(OUTLINE_MAX_ERROR_MM), pcbnew.ERROR_INSIDE)
+            for i in range(poly.OutlineCount()):
+                ring = poly.Outline(i)
+                rings.append([[_to_mm(ring.CPoint(j).x), _to_mm(ring.CPoint(j).y)] for j in range(ring.PointCount())])
+        entry["feed_copper_mm"] = rings
+        out.append(entry)
+    return out
+
+
+def main(argv: list[str]) -> int:
+    parser = argparse.ArgumentParser(prog="python3 -m footgen.plugin.placement", description="Place or regenerate a footgen antenna on a KiCad board (headless).")
+    parser.add_argument("board", type=Path)
+    parser.add_argument("spec", type=Path, nargs="?")
+    parser.add_argument("--describe", action="store_true", help="Print the board's footprints as JSON and exit.")
+    parser.add_argument("--at", nargs=2, type=float, metavar=("X_MM", "Y_MM"), help="Feed point for a new instance (board mm).")
+    parser.add_argument("--rotation", type=float, default=0.0, help="Rotation of a new instance, degrees CCW.")
+    parser.add_argument("--reference", help="Reference of the instance to replace or to create.")
+    parser.add_argument("--rf-net", default=DEFAULT_RF_NET)
+    parser.add_argument("--gnd-net", default=DEFAULT_GND_NET)
+    parser.add_argument("--force", action="store_true")
+    parser.add_argument("--allow-violations", action="store_true")
+    args = parser.parse_args(argv)
+    import pcbnew
+
+    board = pcbnew.LoadBoard(str(args.board))
+    if args.describe:
+        print(json.dumps(describe(board)))
+        return 0
+    if args.spec is None:
+        parser.error("give SPEC.json (or --describe)")
+    placement = Placement(tuple(args.at), args.rotation, args.reference or DEFAULT_REFERENCE) if args.at else None
+    try:
+        outcome = regenerate(
+            board, args.spec, placement=placement, reference=args.reference, rf_net=args.rf_net, gnd_net=args.gnd_net,
+            force=args.force, allow_violations=args.allow_violations,
+        )
+    except (PlacementError, cli_runner.FootgenNotFound, cli_runner.FootgenFailed) as exc:
+        print(f"footgen plugin: error: {exc}", file=sys.stderr)
+        return 1
+    pcbnew.SaveBoard(str(args.board), board)
+    summary = {"replaced": outcome.replaced, "library_added": outcome.library_added, "placement": asdict(outcome.placement), "check_ok": outcome.build.ok}
+    print(json.dumps(summary))
+    return 0
+
+
+if __name__ == "__main__":
+    raise SystemExit(main(sys.argv[1:]))

@@ -1,0 +1,78 @@
+"""Shared fixtures.  Tests never write into the source tree: everything goes to tmp_path."""
+
+from __future__ import annotations
+
+import json
+import os
+import shutil
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+
+ROOT = Path(__file__).resolve().parent.parent
+EXAMPLES = sorted((ROOT / "examples").glob("*.json"))
+TEMPLATES = sorted((ROOT / "templates").glob("*.json"))
+GOLDEN_DIR = Path(__file__).resolve().parent / "golden"
+
+
+def pytest_addoption(parser: pytest.Parser) -> None:
+    parser.addoption(
+        "--update-golden",
+        action="store_true",
+        help="rewrite tests/golden/*.kicad_mod from the current code (review the diff before committing)",
+    )
+
+
+@pytest.fixture
+def update_golden(request: pytest.FixtureRequest) -> bool:
+    return bool(request.config.getoption("--update-golden"))
+
+
+def kicad_available() -> bool:
+    if shutil.which("kicad-cli") is None:
+        return False
+    try:
+        from footgen.kicad.testrun import kicad_python
+
+        kicad_python.cache_clear()
+        kicad_python()
+    except Exception:  # noqa: BLE001 - any failure means "not usable here"
+        return False
+    return True
+
+
+@pytest.fixture(scope="session")
+def kicad() -> None:
+    """Tests that need KiCad 9: they fail in CI (CI=true) when it is missing, skip elsewhere."""
+    if kicad_available():
+        return
+    if os.environ.get("CI", "").lower() == "true":
+        pytest.fail("KiCad 9 (kicad-cli and pcbnew) is required in CI; scripts/test.sh installs it")
+    pytest.skip("KiCad 9 not installed (run scripts/test.sh to install it)")
+
+
+@pytest.fixture(autouse=True)
+def _kicad_config_home(tmp_path_factory: pytest.TempPathFactory, monkeypatch: pytest.MonkeyPatch) -> None:
+    """KiCad writes settings on first run: keep them out of the user's home."""
+    monkeypatch.setenv("KICAD_CONFIG_HOME", str(tmp_path_factory.getbasetemp() / "kicad-config"))
+
+
+def load_json(path: Path) -> dict:
+    return json.loads(Path(path).read_text("utf-8"))
+
+
+def write_spec(tmp_path: Path, data: dict, name: str = "spec.json") -> Path:
+    path = tmp_path / name
+    path.write_text(json.dumps(data, indent=2), "utf-8")
+    return path
+
+
+def footgen_cmd() -> list[str]:
+    """The CLI of the footgen under test (this interpreter's, not whatever is on PATH)."""
+    return [sys.executable, "-m", "footgen"]
+
+
+def run_cli(args: list[str], cwd: Path | None = None) -> subprocess.CompletedProcess:
+    return subprocess.run(footgen_cmd() + args, capture_output=True, text=True, cwd=cwd, timeout=600)
