@@ -8,13 +8,18 @@ Exit codes: 0 success; 1 rule violations (the build or check found fab-rule erro
 from __future__ import annotations
 
 import json
+import os
 import sys
 from pathlib import Path
 
-import click
+# The solvers work on matrices of a few hundred unknowns, where extra BLAS threads cost more
+# than they give; set before numpy is first imported (the commands import it lazily).
+os.environ.setdefault("OPENBLAS_NUM_THREADS", "1")
 
-from footgen import __version__
-from footgen.errors import FootgenError
+import click  # noqa: E402
+
+from footgen import __version__  # noqa: E402
+from footgen.errors import FootgenError  # noqa: E402
 
 EXIT_RULES = 1
 EXIT_INPUT = 2
@@ -163,6 +168,58 @@ def draw_cmd(spec: Path, output: Path, force: bool) -> None:
     click.echo(f"wrote {output}")
 
 
+@main.command("predict")
+@click.argument("spec", type=click.Path(path_type=Path))
+@click.option("--s1p", "s1p", type=click.Path(dir_okay=False, path_type=Path), help="Write the predicted S11 as Touchstone (.s1p).")
+@click.option("--plot", "plot", type=click.Path(dir_okay=False, path_type=Path), help="Write the S11 plot: FILE.png and FILE.svg.")
+@click.option("--model", default=None, help="Response model: mom (default) or tline (fast, rough).")
+@click.option("--force", is_flag=True, help="Replace files edited by hand.")
+def predict_cmd(spec: Path, s1p: Path | None, plot: Path | None, model: str | None, force: bool) -> None:
+    """Predict the built antenna's input impedance and S11 around the band: resonance, Zin at
+    the band centre, min S11, the -10 dB band and bandwidth.
+
+    \b
+    Example:
+      footgen predict examples/soil-probe-2g4.json --plot s11.png --s1p predicted.s1p
+    """
+    from footgen.outputs import write_outputs
+    from footgen.prediction import plot_s11, predict_spec, touchstone_text
+    from footgen.sizing import DEFAULT_MODEL, MODELS
+    from footgen.spec import load_spec
+
+    name = model or DEFAULT_MODEL
+    if name not in MODELS:
+        raise click.BadParameter(f"{name!r}: choose one of {', '.join(MODELS)}", param_hint="--model")
+    loaded = load_spec(spec)
+    click.echo("sizing and sweeping ...", err=True)
+    prediction = predict_spec(loaded, model=name, progress=_progress_printer("sweep"))
+    for line in prediction.summary_lines():
+        click.echo(line)
+    files: dict[Path, bytes] = {}
+    if s1p is not None:
+        files[s1p] = touchstone_text(prediction)
+    if plot is not None:
+        svg, png = plot_s11(prediction)
+        files[plot.with_suffix(".png")] = png
+        files[plot.with_suffix(".svg")] = svg
+    for path, data in files.items():
+        write_outputs(path.parent, {path.name: data}, force=force)
+        click.echo(f"wrote {path}")
+
+
+def _progress_printer(what: str):
+    """A progress(done, total) callback printing about ten lines to stderr."""
+    state = {"last": -1}
+
+    def progress(done: int, total: int) -> None:
+        step = max(total // 10, 1)
+        if done == total or done // step != state["last"]:
+            state["last"] = done // step
+            click.echo(f"  {what} {done}/{total}", err=True)
+
+    return progress
+
+
 @main.command("testboard")
 @click.argument("spec", type=click.Path(path_type=Path))
 @click.option("-o", "--out", "out_dir", required=True, type=click.Path(file_okay=False, path_type=Path), help="Folder for the KiCad project.")
@@ -187,6 +244,17 @@ def testboard_cmd(spec: Path, out_dir: Path, drc: bool, allow_violations: bool, 
         click.echo(f"KiCad DRC: {len(report.drc_errors)} error(s), {len(report.drc_warnings)} warning(s)")
         if report.drc_errors:
             sys.exit(EXIT_RULES)
+
+
+def _register_loop_commands() -> None:
+    """retune, diff, match, report: the measure-and-retune loop (footgen.cli_rf)."""
+    from footgen import cli_rf
+
+    for command in (cli_rf.retune_cmd, cli_rf.diff_cmd, cli_rf.match_cmd, cli_rf.report_cmd):
+        main.add_command(command)
+
+
+_register_loop_commands()
 
 
 if __name__ == "__main__":  # pragma: no cover

@@ -105,15 +105,17 @@ def diff_cmd(old: Path, new: Path, overlay: Path | None, force: bool, model: str
 @click.argument("spec", required=False, type=click.Path(dir_okay=False, path_type=Path))
 @click.option("--measured", type=click.Path(dir_okay=False, path_type=Path), default=None, help="Touchstone sweep to match (else SPEC's predicted Zin).")
 @click.option("--f0-mhz", type=float, default=None, help="Match frequency (default: SPEC's band centre).")
+@click.option("--band-mhz", nargs=2, type=float, default=None, help="Band LOW HIGH judged for the choice (default: SPEC's band, else f0 alone).")
 @click.option("--series", type=click.Choice(["E12", "E24"]), default="E24", show_default=True, help="Preferred value series for the parts.")
 @_model_option
-def match_cmd(spec: Path | None, measured: Path | None, f0_mhz: float | None, series: str, model: str | None) -> None:
+def match_cmd(spec: Path | None, measured: Path | None, f0_mhz: float | None, band_mhz: tuple[float, float] | None,
+              series: str, model: str | None) -> None:
     """List L and pi matching networks (parts snapped to E12/E24) for a measured or predicted
     input impedance, with |S11| at f0 and in the band.
 
     \b
     Example:
-      footgen match --measured sweep.s1p --f0-mhz 868
+      footgen match --measured sweep.s1p --f0-mhz 868 --band-mhz 863 870
       footgen match sensor.json
     """
     import numpy as np
@@ -152,6 +154,10 @@ def match_cmd(spec: Path | None, measured: Path | None, f0_mhz: float | None, se
         f0 = loaded.target.center_hz
     else:
         f0 = f0_mhz * 1e6
+    if band_mhz is not None:
+        if not band_mhz[0] <= f0 / 1e6 <= band_mhz[1]:
+            raise SpecError("--band-mhz", list(band_mhz), f"the band must hold f0 ({f0 / 1e6:g} MHz)")
+        band = (band_mhz[0] * 1e6, band_mhz[1] * 1e6)
     if band is not None:
         band = (max(band[0], freq[0]), min(band[1], freq[-1]))
     plan = matching.plan_match(freq, z, f0, band_hz=band, series=series)

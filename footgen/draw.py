@@ -21,6 +21,8 @@ from footgen.geometry.layout import Layout
 #: Ground shown this far below the ground edge (mm); the plane itself may be much larger.
 GROUND_VIEW_MM = 4.0
 PNG_DPI = 150
+#: Dimension arrows stand this far beside the copper they measure (mm).
+DIM_OFFSET_MM = 1.5
 COLORS = {
     "ground": "#9aa5b1",
     "copper": "#d9822b",
@@ -46,6 +48,23 @@ def _dimension(ax, a: tuple[float, float], b: tuple[float, float], text: str) ->
             bbox=dict(boxstyle="round,pad=0.15", fc="white", ec="none", alpha=0.8))
 
 
+def _main_dimensions(ax, layout: Layout) -> None:
+    """Arm height beside the feed leg, feed-to-short spacing between the legs (any placement)."""
+    d = layout.dims
+    copper = layout.copper
+    (ax0, ay0), (ax1, ay1) = copper.arm_path[0], copper.arm_path[1]
+    norm = max(((ax1 - ax0) ** 2 + (ay1 - ay0) ** 2) ** 0.5, 1e-9)
+    ux, uy = (ax1 - ax0) / norm, (ay1 - ay0) / norm  # along the arm, towards the open end
+    fx, fy = layout.feed_point
+    tx, ty = copper.trace("feed_leg").points[-1]
+    off = DIM_OFFSET_MM
+    _dimension(ax, (fx + off * ux, fy + off * uy), (tx + off * ux, ty + off * uy), f"h {d['arm_height_mm']:.2f}")
+    (sx0, sy0), (sx1, sy1) = copper.trace("short_leg").points
+    sx, sy = 0.5 * (sx0 + sx1), 0.5 * (sy0 + sy1)
+    s = d["feed_short_spacing_mm"]
+    _dimension(ax, (sx, sy), (sx + s * ux, sy + s * uy), f"s {s:.2f}")
+
+
 def figure(layout: Layout, title: str, subtitle: str) -> Figure:
     fig = Figure(figsize=(8.0, 4.5))
     ax = fig.add_subplot(1, 1, 1)
@@ -63,9 +82,8 @@ def figure(layout: Layout, title: str, subtitle: str) -> Figure:
         ax.add_patch(matplotlib.patches.Circle(via.center, (via.drill_mm or 0) / 2, fc="white", ec="black", lw=0.3))
     ex, ey = layout.board_edge.xy
     ax.plot(ex, ey, color=COLORS["edge"], lw=1.2)
-    bx0, by0, bx1, by1 = layout.clearance_box.bounds
-    _dimension(ax, (bx0, by1 + 0.8), (bx1, by1 + 0.8), f"clearance {bx1 - bx0:.2f} mm")
     d = layout.dims
+    _main_dimensions(ax, layout)
     ax.text(x0, y0 - 1.0, (f"arm {d['arm_length_mm']:.2f} mm, height {d['arm_height_mm']:.2f} mm, "
                            f"feed-short {d['feed_short_spacing_mm']:.2f} mm, trace {d['trace_width_mm']:.2f} mm, "
                            f"meander turns {int(d['meander_turns'])}"), fontsize=7, va="top")

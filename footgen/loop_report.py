@@ -27,7 +27,7 @@ from footgen.spec import Spec
 Z0_OHM = 50.0
 #: Predicted sweep without a measurement: band centre +- this fraction (dimensionless).
 PREDICTED_SPAN = 0.25
-PREDICTED_POINTS = 601
+PREDICTED_POINTS = 241
 #: Constant-resistance circles and constant-reactance arcs drawn on the Smith chart.
 SMITH_R = (0.0, 0.2, 0.5, 1.0, 2.0, 5.0)
 SMITH_X = (0.2, 0.5, 1.0, 2.0, 5.0)
@@ -106,8 +106,11 @@ class ReportData:
 
 
 def _sweep(spec: Spec, measurement: Measurement | None) -> np.ndarray:
+    """Frequencies of the prediction: across the measured sweep if any (at most
+    PREDICTED_POINTS, since a MoM prediction costs per point), else the band centre +- 25 %."""
     if measurement is not None:
-        return np.asarray(measurement.freq_hz, dtype=float)
+        f = np.asarray(measurement.freq_hz, dtype=float)
+        return f if f.size <= PREDICTED_POINTS else np.linspace(f[0], f[-1], PREDICTED_POINTS)
     f0 = spec.target.center_hz
     return np.linspace((1 - PREDICTED_SPAN) * f0, (1 + PREDICTED_SPAN) * f0, PREDICTED_POINTS)
 
@@ -133,7 +136,9 @@ def prepare(spec: Spec, measurement: Measurement | None = None, *, calibration=N
     if calibration is not None:
         z_corr = corrected_zin_ohm(spec, sz, f, calibration, model)
         s_corr = (z_corr - Z0_OHM) / (z_corr + Z0_OHM)
+    f_load = f
     if measurement is not None:
+        f_load = np.asarray(measurement.freq_hz, dtype=float)
         z_load = measurement.z0_ohm * (1 + measurement.s11) / (1 - measurement.s11)
         matched_on = "measured"
     elif calibration is not None:
@@ -148,7 +153,7 @@ def prepare(spec: Spec, measurement: Measurement | None = None, *, calibration=N
         )
     band = (max(spec.target.low_hz, f[0]), min(spec.target.high_hz, f[-1]))
     say(f"report: matching networks at {f0 / 1e6:.2f} MHz ({matched_on} Zin, {series})")
-    plan = matching.plan_match(f, z_load, f0, band_hz=band, series=series)
+    plan = matching.plan_match(f_load, z_load, f0, band_hz=band, series=series)
     return ReportData(spec, model, sz, layout, violations, f, s_pred, measurement, plan, matched_on, s_corr, calibration)
 
 
@@ -173,7 +178,7 @@ def s11_figure(data: ReportData):
         ax.plot(data.measured.freq_hz / 1e6, touchstone.s11_db(data.measured.s11), color="#c53030", lw=1.2, label="measured")
     best = data.plan.best
     if best.parts:
-        ax.plot(mhz, touchstone.s11_db(best.s11), color="#2f855a", lw=1.0, ls="--", label=f"{data.matched_on} with match ({best.label})")
+        ax.plot(data.plan.freq_hz / 1e6, touchstone.s11_db(best.s11), color="#2f855a", lw=1.0, ls="--", label=f"{data.matched_on} with match ({best.label})")
     ax.set_xlabel("frequency (MHz)", fontsize=8)
     ax.set_ylabel("|S11| (dB)", fontsize=8)
     ax.set_title(f"{data.spec.name} revision {data.spec.revision}: S11 against 50 ohm", fontsize=9)
@@ -190,7 +195,8 @@ def smith_figure(data: ReportData):
     fig = Figure(figsize=(5.5, 5.5))
     ax = fig.add_subplot(1, 1, 1)
     _smith_axes(ax)
-    in_band = (data.freq_hz >= data.plan.band_hz[0]) & (data.freq_hz <= data.plan.band_hz[1])
+    f = data.plan.freq_hz
+    in_band = (f >= data.plan.band_hz[0]) & (f <= data.plan.band_hz[1])
     antenna = gamma_from_z(data.plan.z_load_ohm / Z0_OHM)
     ax.plot(antenna.real, antenna.imag, color="#c53030" if data.measured is not None else "#2b6cb0", lw=0.8,
             label=f"antenna ({data.matched_on})")
@@ -214,7 +220,7 @@ def _band_text(freq_hz: np.ndarray, s11: np.ndarray, f0_hz: float) -> str:
 
 
 def markdown(data: ReportData, images: dict[str, str], diff_md: str | None = None) -> str:
-    from footgen.retune import measured_dip, model_dip, model_ifa
+    from footgen.retune import measured_dip
 
     spec, sz, d, plan = data.spec, data.sizing, data.layout.dims, data.plan
     f0 = plan.f0_hz
@@ -231,9 +237,10 @@ def markdown(data: ReportData, images: dict[str, str], diff_md: str | None = Non
     lines += ["## Rule check", ""]
     lines += [f"- {v.line()}" for v in data.violations] or [f"No violations against fab profile `{spec.fab.name}`."]
     lines += ["", "## S11", "", f"![S11]({images['s11']})", ""]
-    pred = model_dip(model_ifa(spec, sz, data.model), data.model)
+    f_pred, level_pred = touchstone.min_s11_db(data.freq_hz, data.predicted_s11)
     lines += ["| | dip | \\|S11\\| at dip | Zin at dip | -10 dB band around f0 |", "| --- | --- | --- | --- | --- |",
-              f"| predicted | {pred.freq_hz / 1e6:.2f} MHz | {pred.s11_db:.1f} dB | {_z(pred.zin_ohm)} | "
+              f"| predicted | {f_pred / 1e6:.2f} MHz | {level_pred:.1f} dB | "
+              f"{_z(touchstone.zin_at(data.freq_hz, data.predicted_s11, f_pred))} | "
               f"{_band_text(data.freq_hz, data.predicted_s11, f0)} |"]
     if data.corrected_s11 is not None:
         cal = data.calibration
@@ -244,10 +251,10 @@ def markdown(data: ReportData, images: dict[str, str], diff_md: str | None = Non
         lines += ["", f"Corrected by the measurement `{Path(cal.source).name}` of the previous revision: frequency x "
                       f"{cal.freq_ratio:.4f}, resistance x {cal.r_ratio:.4f} (measured / model at the dip)."]
     if data.measured is not None:
-        meas = measured_dip(data.measured, pred.freq_hz)
+        meas = measured_dip(data.measured, f_pred)
         lines.append(f"| measured | {meas.freq_hz / 1e6:.2f} MHz | {meas.s11_db:.1f} dB | {_z(meas.zin_ohm)} | "
                      f"{_band_text(data.measured.freq_hz, data.measured.s11, f0)} |")
-        lines += ["", f"Measured / predicted dip frequency: {meas.freq_hz / pred.freq_hz:.4f}."]
+        lines += ["", f"Measured / predicted dip frequency: {meas.freq_hz / f_pred:.4f}."]
     best = plan.best
     direct = plan.candidates[0]
     lines += ["", "## Match", "", f"![Smith chart]({images['smith']})", "",

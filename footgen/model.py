@@ -8,6 +8,18 @@ from footgen.physics.ifa import GroundPlane, Laminate, PrintedIfa
 from footgen.spec import Spec
 
 MM = 1e-3
+#: A final arm segment shorter than this fraction of the trace width is left out of the physics
+#: model (thin-wire models need segments longer than a few wire radii, radius = width / 4); the
+#: centreline length then differs by less than half a trace width.
+MIN_TAIL_PER_WIDTH = 0.5
+
+
+def _physics_path(path: tuple[tuple[float, float], ...], width_mm: float) -> tuple[tuple[float, float], ...]:
+    if len(path) > 2:
+        (x0, y0), (x1, y1) = path[-2], path[-1]
+        if abs(x1 - x0) + abs(y1 - y0) < MIN_TAIL_PER_WIDTH * width_mm:
+            return path[:-1]
+    return path
 
 
 def printed_ifa(spec: Spec, copper: IfaCopper) -> PrintedIfa:
@@ -17,7 +29,7 @@ def printed_ifa(spec: Spec, copper: IfaCopper) -> PrintedIfa:
     center = box_x0 + spec.clearance.width_mm / 2 + spec.ground_plane.offset_mm
     gp = spec.ground_plane
     return PrintedIfa(
-        arm_path_m=tuple((x * MM, y * MM) for x, y in copper.arm_path),
+        arm_path_m=tuple((x * MM, y * MM) for x, y in _physics_path(copper.arm_path, spec.trace_width_mm)),
         feed_x_m=copper.feed_x_mm * MM,
         short_x_m=copper.short_x_mm * MM,
         trace_width_m=spec.trace_width_mm * MM,

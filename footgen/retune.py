@@ -23,7 +23,8 @@ import numpy as np
 
 from footgen import sizing
 from footgen.errors import InfeasibleSpecError, MeasurementError, OverwriteRefusedError, SolverError, SpecError
-from footgen.geometry.layout import Layout, Sizing, build_layout
+from footgen.geometry.layout import Layout, Sizing, build_layout, generate_copper
+from footgen.model import printed_ifa
 from footgen.outputs import write_outputs
 from footgen.physics.ifa import PrintedIfa
 from footgen.rf import touchstone
@@ -33,14 +34,15 @@ from footgen.spec import Spec, parse_spec
 
 #: Reference resistance the tap is matched to (ohm).
 MATCH_OHM = 50.0
-#: The model's dip is searched within this fraction either side of its resonance (dimensionless).
-DIP_SPAN = 0.15
+#: The model's dip is searched within this fraction either side of the start model's
+#: resonance (dimensionless; the sizing searches the MoM one within 0.5 .. 1.6 of it).
+DIP_SPAN = 0.35
 #: Samples of the coarse sweep over that span and of the fine sweep between the two coarse
-#: samples beside the smallest (steps of 0.375 % and 0.019 % of the resonance).
-DIP_COARSE_POINTS = 81
+#: samples beside the smallest (steps of 1 % and 0.05 % of the guess).
+DIP_COARSE_POINTS = 71
 DIP_FINE_POINTS = 41
-#: Samples of the sweep that fixes the display correction's frequency ratio.
-DISPLAY_POINTS = 1201
+#: Times the fine window may move when the minimum lands on its edge.
+DIP_RECENTRES = 4
 #: A measured match worse than this at the dip moves the tap (common practice, no source).
 POOR_MATCH_DB = -10.0
 #: ... and so does a resistance at the dip outside [50 / ratio, 50 * ratio] (common practice,
@@ -91,32 +93,52 @@ def evaluator(spec: Spec, model: str = sizing.DEFAULT_MODEL) -> "sizing._Evaluat
     return sizing._Evaluator(spec, sizing.MODELS[model])
 
 
-def model_ifa(spec: Spec, numbers: Sizing, model: str = sizing.DEFAULT_MODEL) -> PrintedIfa:
-    """The physics model of ``spec`` with the arm sized by ``numbers``."""
-    return evaluator(spec, model).ifa(numbers.arm_length_mm, numbers.height_mm, numbers.feed_short_spacing_mm)
+def model_ifa(spec: Spec, numbers: Sizing) -> PrintedIfa:
+    """The physics model of ``spec``'s copper as built from ``numbers`` (with the meander pitch
+    a sizing may carry, so a fitted meander is the one that was built)."""
+    return printed_ifa(spec, generate_copper(spec, numbers))
 
 
 def model_zin_ohm(spec: Spec, numbers: Sizing, freq_hz: np.ndarray, model: str = sizing.DEFAULT_MODEL) -> np.ndarray:
     """Predicted input impedance (ohm) of the sized antenna over ``freq_hz``."""
-    return np.asarray(sizing.MODELS[model].zin_ohm(np.asarray(freq_hz, dtype=float), model_ifa(spec, numbers, model)))
+    return np.asarray(sizing.MODELS[model].zin_ohm(np.asarray(freq_hz, dtype=float), model_ifa(spec, numbers)))
 
 
-def model_dip(ifa: PrintedIfa, model: str = sizing.DEFAULT_MODEL) -> Dip:
-    """The model's |S11| dip near its quarter-wave resonance: a coarse sweep, a fine sweep
-    between the coarse samples either side of the smallest, and the same parabola refinement
-    footgen applies to measured sweeps (:func:`footgen.rf.touchstone.min_s11_db`).  Two
-    vectorised calls of the model, so costly models (MoM) are asked for few sweeps."""
-    rm = sizing.MODELS[model]
-    f_pole = rm.resonance_hz(ifa)
-    coarse = np.linspace((1 - DIP_SPAN) * f_pole, (1 + DIP_SPAN) * f_pole, DIP_COARSE_POINTS)
-    i = int(np.argmin(np.abs(_gamma(rm.zin_ohm(coarse, ifa)))))
-    if i in (0, coarse.size - 1):
-        raise SolverError(f"the model's |S11| has no dip within {DIP_SPAN:.0%} of its resonance at {f_pole / 1e6:.2f} MHz")
-    fine = np.linspace(coarse[i - 1], coarse[i + 1], DIP_FINE_POINTS)
-    z = np.asarray(rm.zin_ohm(fine, ifa), dtype=complex)
+def dip_of(zin_ohm: Callable[[np.ndarray], np.ndarray], guess_hz: float) -> Dip:
+    """The |S11| dip of a vectorised impedance function near ``guess_hz``: a coarse sweep over
+    +-``DIP_SPAN``, a fine sweep around its local minimum nearest the guess, and the same
+    parabola refinement footgen applies to measured sweeps
+    (:func:`footgen.rf.touchstone.min_s11_db`).  Two calls, so costly models are asked little."""
+    coarse = np.linspace((1 - DIP_SPAN) * guess_hz, (1 + DIP_SPAN) * guess_hz, DIP_COARSE_POINTS)
+    g = np.abs(_gamma(zin_ohm(coarse)))
+    minima = np.nonzero((g[1:-1] < g[:-2]) & (g[1:-1] <= g[2:]))[0] + 1
+    if minima.size == 0:
+        raise SolverError(f"no |S11| dip within {DIP_SPAN:.0%} of {guess_hz / 1e6:.2f} MHz")
+    i = int(minima[np.argmin(np.abs(coarse[minima] - guess_hz))])
+    lo, hi = coarse[i - 1], coarse[i + 1]
+    for _ in range(DIP_RECENTRES + 1):
+        fine = np.linspace(lo, hi, DIP_FINE_POINTS)
+        z = np.asarray(zin_ohm(fine), dtype=complex)
+        j = int(np.argmin(np.abs(_gamma(z))))
+        if 0 < j < fine.size - 1:
+            break
+        # The minimum sits on an edge of the fine window (a model whose wide sweeps are less
+        # accurate than its narrow ones places the coarse minimum off): move the window there.
+        half = 0.5 * (hi - lo)
+        lo, hi = fine[j] - half, fine[j] + half
+    else:
+        raise SolverError(f"the |S11| dip near {guess_hz / 1e6:.2f} MHz could not be bracketed")
     f_dip, level_db = touchstone.min_s11_db(fine, _gamma(z))
     z_dip = complex(np.interp(f_dip, fine, z.real), np.interp(f_dip, fine, z.imag))
     return Dip(float(f_dip), float(level_db), z_dip)
+
+
+def model_dip(ifa: PrintedIfa, model: str = sizing.DEFAULT_MODEL) -> Dip:
+    """The model's |S11| dip near the quarter-wave resonance, searched around the fast start
+    model's resonance (``sizing.START_MODEL``, cheap) so that only two sweeps of ``model`` run."""
+    guess = sizing.MODELS[sizing.START_MODEL].resonance_hz(ifa)
+    rm = sizing.MODELS[model]
+    return dip_of(lambda f: rm.zin_ohm(np.asarray(f, dtype=float), ifa), guess)
 
 
 def _gamma(z_ohm):
@@ -169,16 +191,18 @@ class Calibration:
 def calibrate(spec: Spec, measurement: Measurement, *, model: str = sizing.DEFAULT_MODEL) -> Calibration:
     """Compare the measurement of the board built from ``spec`` with the model's prediction."""
     old = sizing.size(spec, model=model)
-    before = model_dip(model_ifa(spec, old, model), model)
+    before = model_dip(model_ifa(spec, old), model)
     meas = measured_dip(measurement, before.freq_hz)
     if meas.r_ohm <= 0 or before.r_ohm <= 0:
         raise MeasurementError(f"{measurement.source}: resistance at the dip is not positive ({meas.r_ohm:.3g} ohm); check the calibration")
     k_r = meas.r_ohm / before.r_ohm
-    f = np.linspace((1 - DIP_SPAN) * before.freq_hz, (1 + DIP_SPAN) * before.freq_hz, DISPLAY_POINTS)
-    z = model_zin_ohm(spec, old, f, model)
-    z = k_r * z.real + 1j * z.imag
-    f_scaled_dip, _ = touchstone.min_s11_db(f, _gamma(z))
-    return Calibration(old, before, meas, measurement.source, meas.freq_hz / f_scaled_dip)
+
+    def scaled(f: np.ndarray) -> np.ndarray:
+        z = model_zin_ohm(spec, old, f, model)
+        return k_r * z.real + 1j * z.imag
+
+    scaled_dip = dip_of(scaled, before.freq_hz)
+    return Calibration(old, before, meas, measurement.source, meas.freq_hz / scaled_dip.freq_hz)
 
 
 def corrected_zin_ohm(spec: Spec, numbers: Sizing, freq_hz: np.ndarray, cal: Calibration,
@@ -212,8 +236,8 @@ class RetuneResult:
     freq_ratio: float  # measured / model dip frequency
     r_ratio: float  # measured / model resistance at the dip
     dfdl_hz_per_mm: float  # model sensitivity of the dip frequency to the arm length
-    drds_ohm_per_mm: float  # model sensitivity of the dip resistance to the tap spacing
-    tap_moved: bool
+    drds_ohm_per_mm: float  # model sensitivity of R at resonance to the tap spacing
+    tap_moved: bool  # the feed-to-short spacing changed
     newton_steps: int
     layout: Layout
     violations: tuple[Violation, ...]
@@ -251,10 +275,9 @@ class _Problem:
         self.f_target = f_target_hz
         self.move_tap = move_tap
         self.fixed_spacing = fixed_spacing_mm
-        self.evaluations = 0
 
     def numbers(self, x: np.ndarray) -> tuple[float, float]:
-        return float(x[0]), float(x[1]) if self.move_tap else self.fixed_spacing
+        return float(x[0]), (float(x[1]) if self.move_tap else self.fixed_spacing)
 
     def residual(self, x: np.ndarray) -> np.ndarray:
         """Corrected model against the target: the model's dip frequency times the frequency
@@ -262,7 +285,6 @@ class _Problem:
         resistance at its resonance (the sizing's match criterion) times the resistance ratio
         at 50 ohm."""
         length, spacing = self.numbers(x)
-        self.evaluations += 1
         ifa = self.ev.ifa(length, self.height, spacing)
         r = [self.k_f * model_dip(ifa, self.model).freq_hz / self.f_target - 1.0]
         if self.move_tap:
@@ -394,7 +416,6 @@ def retune(
         f"model {before.freq_hz / 1e6:.3f} MHz (R {before.r_ohm:.1f} ohm)")
     notes: list[str] = []
     tap = _tap_needs_moving(meas) if move_tap is None else bool(move_tap)
-    s_min = sizing.min_spacing_mm(spec)
     problem = _Problem(spec, model, old.height_mm, k_f, k_r, f_target, tap, old.feed_short_spacing_mm)
     x0 = np.array([old.arm_length_mm, old.feed_short_spacing_mm] if tap else [old.arm_length_mm])
     try:
@@ -411,13 +432,12 @@ def retune(
             x, jac, steps = _newton(problem, x0[:1], say)
         except _Limit as arm_limit:
             raise _arm_refusal(arm_limit) from None
-        tap = False
-        problem_tap_kept = True
+        tap_clamped = True
     else:
-        problem_tap_kept = False
+        tap_clamped = False
     length, spacing = problem.numbers(x)
     dfdl = float(jac[0, 0]) * f_target / k_f
-    drds = float(jac[1, 1]) * MATCH_OHM / k_r if jac.shape[1] > 1 else _drds(problem, length, spacing)
+    drds = float(jac[1, 1]) * MATCH_OHM / k_r if jac.shape[1] > 1 and not tap_clamped else _drds(problem, length, spacing)
     new_data = _next_revision_data(spec, measurement.source, meas.freq_hz, f_target, old, length, old.height_mm, spacing)
     new_spec = parse_spec(new_data)
     new_sizing = sizing.size(new_spec, model=model)
@@ -431,14 +451,14 @@ def retune(
             "$.arm.length_mm", _round_mm(length),
             f"the retuned layout breaks fab rule {errors[0].rule} ({errors[0].message}); {near}",
         )
-    after = model_dip(evaluator(new_spec, model).ifa(new_sizing.arm_length_mm, new_sizing.height_mm, new_sizing.feed_short_spacing_mm), model)
-    if not tap and not problem_tap_kept and _tap_needs_moving(meas):
+    after = model_dip(model_ifa(new_spec, new_sizing), model)
+    if not tap and _tap_needs_moving(meas):
         notes.append("the measured match is poor but the tap was kept as asked: add a matching network")
     return RetuneResult(
         old_spec=spec, new_spec=new_spec, new_data=new_data, model=model, source=measurement.source,
         f_target_hz=f_target, old_sizing=old, new_sizing=new_sizing, measured=meas, model_before=before,
         model_after=after, freq_ratio=k_f, r_ratio=k_r, dfdl_hz_per_mm=dfdl, drds_ohm_per_mm=drds,
-        tap_moved=tap, newton_steps=steps, layout=layout, violations=violations, notes=tuple(notes),
+        tap_moved=abs(spacing - old.feed_short_spacing_mm) > 10 ** -SPEC_DECIMALS, newton_steps=steps, layout=layout, violations=violations, notes=tuple(notes),
     )
 
 

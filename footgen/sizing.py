@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, replace
+from functools import lru_cache
 from typing import Callable
 
 import numpy as np
@@ -21,6 +22,9 @@ from footgen.geometry.layout import Sizing, generate_copper, max_arm_height_mm, 
 from footgen.model import printed_ifa
 from footgen.physics.ifa import PrintedIfa
 from footgen.physics.lines import eps_eff_strip_beside_ground_edge
+from footgen.physics import predict
+from footgen.physics.mom import MomSolver
+from footgen.physics.wires import ifa_wire_model
 from footgen.physics.tline_ifa import resonance_tline_ifa_hz, zin_tline_ifa
 from footgen.constants import C0_M_PER_S
 from footgen.spec import Spec
@@ -52,17 +56,44 @@ class ResponseModel:
 
     label: str
     resonance_hz: Callable[[PrintedIfa], float]
-    zin_ohm: Callable[[np.ndarray, PrintedIfa], np.ndarray]
+    #: zin_ohm(freq_hz, ifa, progress=None); progress(done, total) is optional
+    zin_ohm: Callable[..., np.ndarray]
+    #: zin_meshed(freq_hz, ifa, mesh_hz): Zin with the discretisation a sweep up to mesh_hz uses
+    zin_meshed: Callable[[np.ndarray, PrintedIfa, float], np.ndarray]
+
+
+def _mom_zin_meshed(freq_hz: np.ndarray, ifa: PrintedIfa, mesh_hz: float) -> np.ndarray:
+    """MoM Zin on the wire model meshed for ``mesh_hz`` (so synthesis and prediction sweeps see
+    the same segmentation)."""
+    return MomSolver(ifa_wire_model(ifa, mesh_hz)).sweep_direct(np.asarray(freq_hz, float))
+
+
+def _mom_resonance_hz(ifa: PrintedIfa) -> float:
+    """MoM resonance (min |S11|) searched around the transmission-line model's estimate."""
+    guess = resonance_tline_ifa_hz(ifa)
+    return predict.resonance_hz(ifa, MOM_SEARCH_LOW * guess, MOM_SEARCH_HIGH * guess)
 
 
 MODELS: dict[str, ResponseModel] = {
     "tline": ResponseModel(
         "transmission-line model (footgen.physics.tline_ifa)",
         resonance_tline_ifa_hz,
-        lambda f, ifa: zin_tline_ifa(f, ifa),
+        lambda f, ifa, progress=None: zin_tline_ifa(f, ifa),
+        lambda f, ifa, mesh_hz: zin_tline_ifa(f, ifa),
+    ),
+    "mom": ResponseModel(
+        "thin-wire method of moments (footgen.physics.mom) over the ground grid and laminate",
+        _mom_resonance_hz,
+        lambda f, ifa, progress=None: predict.zin_ohm(ifa, f, progress=progress),
+        _mom_zin_meshed,
     ),
 }
-DEFAULT_MODEL = "tline"
+#: The fast model that gives every other model its starting point.
+START_MODEL = "tline"
+DEFAULT_MODEL = "mom"
+#: MoM resonance search window around the transmission-line estimate (fractions of it).
+MOM_SEARCH_LOW = 0.5
+MOM_SEARCH_HIGH = 1.6
 
 
 def quarter_wave_first_estimate_mm(spec: Spec, height_mm: float) -> float:
@@ -92,12 +123,14 @@ def min_spacing_mm(spec: Spec) -> float:
 class _Evaluator:
     """Builds the geometry for a trial sizing and asks the response model about it."""
 
-    def __init__(self, spec: Spec, model: ResponseModel) -> None:
+    def __init__(self, spec: Spec, model: ResponseModel, pitch_mm: float | None = None) -> None:
         self.spec = spec
         self.model = model
+        self.pitch_mm = pitch_mm
 
     def ifa(self, length: float, height: float, spacing: float) -> PrintedIfa:
-        return printed_ifa(self.spec, generate_copper(self.spec, Sizing(length, height, spacing, "trial")))
+        sizing = Sizing(length, height, spacing, "trial", meander_pitch_mm=self.pitch_mm)
+        return printed_ifa(self.spec, generate_copper(self.spec, sizing))
 
     def fits(self, length: float, height: float, spacing: float) -> bool:
         try:
@@ -201,8 +234,18 @@ def _solve_spacing(ev: _Evaluator, length: float, height: float, f0: float, note
     return best
 
 
+@lru_cache(maxsize=64)
 def size(spec: Spec, model: str = DEFAULT_MODEL) -> Sizing:
-    """Sizing for ``spec`` with the named response model."""
+    """Sizing for ``spec`` with the named response model: the start model's sizing, refined
+    with ``model`` (if it is another one) so that the feed sees 50 ohm at the band centre."""
+    start = _size_with(spec, START_MODEL)
+    if model == START_MODEL or start.method == "as given":
+        return start
+    return refine(spec, start, model)
+
+
+def _size_with(spec: Spec, model: str) -> Sizing:
+    """Sizing by root finding on the model's resonance and resistance at resonance."""
     rm = MODELS[model]
     ev = _Evaluator(spec, rm)
     notes: list[str] = []
@@ -236,3 +279,171 @@ def size(spec: Spec, model: str = DEFAULT_MODEL) -> Sizing:
         notes.append(f"arm length kept as given: the model puts the resonance at {f_res / 1e6:.1f} MHz")
     notes.append(f"sized with the {rm.label} at {f0 / 1e6:.2f} MHz")
     return Sizing(length, height, spacing, rm.label, tuple(dict.fromkeys(notes)))
+
+
+# ---------------------------------------------------------------------------------------------
+# refinement with an accurate (slower) model: Gauss-Newton on the reflection coefficient at f0
+
+#: Stop when |S11| at the band centre is below this (dimensionless; -40 dB).
+REFINE_GAMMA_TOL = 0.01
+#: Gauss-Newton iterations at most, and backtracking halvings per iteration.
+REFINE_ITERATIONS = 12
+REFINE_BACKTRACKS = 6
+#: Finite-difference steps for the Jacobian (mm).
+REFINE_STEP_LENGTH_MM = 0.2
+REFINE_STEP_SPACING_MM = 0.1
+#: Largest change per iteration, as a fraction of the current value (keeps steps local).
+REFINE_MAX_STEP_FRACTION = 0.3
+#: Prediction sweeps span the band centre +- this fraction; synthesis meshes for the top of it.
+PREDICTION_HALF_SPAN = 0.2
+#: The secant steps' sweep around the band centre (fractions of it) and its points; a
+#: resonance outside it reads as the sweep edge, which still moves the length the right way.
+QUICK_SWEEP_LOW = 0.6
+QUICK_SWEEP_HIGH = 1.5
+QUICK_SWEEP_POINTS = 46
+#: Coarse start grid: arm lengths as factors of the start model's, and feed-short spacings
+#: from the smallest allowed up to this multiple of it (geometric), this many points.
+REFINE_GRID_LENGTH_FACTORS = (0.85, 0.93, 1.0, 1.07, 1.15)
+REFINE_GRID_SPACING_SPAN = 6.0
+REFINE_GRID_SPACING_POINTS = 5
+#: Refinement passes at most (a fitted meander is refitted between passes), the length the
+#: refit makes room for (factor on the current arm), and how near the length limit counts as at it (mm).
+REFINE_PASSES = 5
+REFIT_LENGTH_FACTOR = 1.15
+REFINE_LIMIT_SLACK_MM = 0.5
+#: A match worse than this at the band centre is reported (|S11| = -10 dB).
+REFINE_REPORT_GAMMA = 0.316
+
+
+def _resonant_length(ev: _Evaluator, length: float, height: float, spacing: float, f0: float, shortest: float, longest: float) -> float:
+    """Two secant steps on the arm length with the model's resonance (min |S11|): puts the
+    refinement's start on the right mode even where the start model is far off (meanders)."""
+
+    def resonance(trial: float) -> float:
+        # one interpolated sweep around the current estimate (cheaper than the model's own search)
+        ifa = ev.ifa(trial, height, spacing)
+        freqs = np.linspace(QUICK_SWEEP_LOW * f0, QUICK_SWEEP_HIGH * f0, QUICK_SWEEP_POINTS)
+        s11 = predict.s11_from_zin(ev.model.zin_ohm(freqs, ifa), MATCH_OHM)
+        return predict.min_s11_frequency_hz(freqs, s11)
+
+    def bound(value: float) -> float:
+        return min(max(value, shortest), longest)
+
+    l0, f_a = length, resonance(length)
+    l1 = bound(l0 * f_a / f0)  # resonance ~ 1 / length
+    if abs(l1 - l0) < CONVERGED_MM:
+        return l0
+    f_b = resonance(l1)
+    if f_b == f_a:
+        return l1
+    return bound(l1 + (f0 - f_b) * (l1 - l0) / (f_b - f_a))
+
+
+def refine(spec: Spec, start: Sizing, model: str) -> Sizing:
+    """Adjust the free ones of (arm length, feed-short spacing) so that ``model`` gives
+    ``Zin(f0) = 50 ohm``: damped Gauss-Newton on ``Gamma = (Z - 50)/(Z + 50)`` at the band centre,
+    with finite-difference Jacobians and the fab and clearance limits as bounds.  The height
+    stays as the start sizing chose it.
+
+    A fitted meander keeps one pitch during a pass (so the copper changes continuously with the
+    arm length); when a pass ends against the clearance, the meander is fitted again for a
+    longer arm and another pass runs."""
+    rm = MODELS[model]
+    f0 = spec.target.center_hz
+    h = start.height_mm
+    pitch = generate_copper(spec, start).meander_pitch_mm if spec.style.fit else None
+    x = {"length": start.arm_length_mm, "spacing": start.feed_short_spacing_mm}
+    g = 1.0
+    for attempt in range(REFINE_PASSES):
+        x, g, at_limit = _refine_pass(spec, rm, h, x, pitch, first=attempt == 0)
+        if g < REFINE_GAMMA_TOL or not spec.style.fit:
+            break
+        # refit the meander for the arm this pass ended with (more room if it hit the limit)
+        grow = REFIT_LENGTH_FACTOR if at_limit else 1.0
+        try:
+            new_pitch = generate_copper(spec, Sizing(x["length"] * grow, h, x["spacing"], "refit")).meander_pitch_mm
+        except InfeasibleSpecError:
+            break
+        if new_pitch is None or (pitch is not None and abs(new_pitch - pitch) < CONVERGED_MM):
+            break
+        pitch = new_pitch
+    s11_db = 20 * math.log10(max(g, 1e-6))
+    notes = [f"refined with the {rm.label}: |S11| = {s11_db:.1f} dB at {f0 / 1e6:.2f} MHz (start: {start.method})"]
+    if g > REFINE_REPORT_GAMMA:
+        notes.append("the band centre is not matched to -10 dB within the clearance and fab limits: consider a matching network or a larger clearance")
+    return Sizing(x["length"], h, x["spacing"], rm.label, tuple(notes), meander_pitch_mm=pitch)
+
+
+def _refine_pass(
+    spec: Spec, rm: ResponseModel, h: float, x0: dict[str, float], pitch: float | None, *, first: bool
+) -> tuple[dict[str, float], float, bool]:
+    """One Gauss-Newton pass at a fixed meander pitch: (values, |Gamma|, ended at the length limit)."""
+    ev = _Evaluator(spec, rm, pitch)
+    f0 = np.array([spec.target.center_hz])
+    free = [name for name, given in (("length", spec.arm.length_mm), ("spacing", spec.arm.feed_short_spacing_mm)) if given is None]
+    x = dict(x0)
+    lo = {"length": x["spacing"] + min_meander_pitch_mm(spec), "spacing": min_spacing_mm(spec)}
+    hi = {"length": _longest_fitting(ev, lo["length"], h, x["spacing"]), "spacing": MAX_SPACING_PER_ARM * x["length"]}
+    steps = {"length": REFINE_STEP_LENGTH_MM, "spacing": REFINE_STEP_SPACING_MM}
+    mesh_hz = float(f0[0]) * (1.0 + PREDICTION_HALF_SPAN)
+
+    def gamma(values: dict[str, float]) -> np.ndarray:
+        """Reflection coefficient at f0 as (re, im); a trial that does not fit reads as a total
+        reflection, so the search steps back from it."""
+        try:
+            ifa = ev.ifa(values["length"], h, values["spacing"])
+        except InfeasibleSpecError:
+            return np.array([1.0, 0.0])
+        z = complex(rm.zin_meshed(f0, ifa, mesh_hz)[0])
+        g = (z - MATCH_OHM) / (z + MATCH_OHM)
+        return np.array([g.real, g.imag])
+
+    def clamp(values: dict[str, float]) -> dict[str, float]:
+        return {k: min(max(v, lo[k]), hi[k]) if k in free else v for k, v in values.items()}
+
+    if first and "length" in free:
+        x["length"] = _resonant_length(ev, x["length"], h, x["spacing"], float(f0[0]), lo["length"], hi["length"])
+    x = clamp(x)
+    r = gamma(x)
+    # The match valley of an IFA is narrow and curved in (length, spacing): start Gauss-Newton
+    # from the best point of a coarse grid around the current answer.
+    grids = {
+        "length": [x["length"] * f for f in REFINE_GRID_LENGTH_FACTORS],
+        "spacing": list(np.geomspace(lo["spacing"], max(lo["spacing"], min(hi["spacing"], REFINE_GRID_SPACING_SPAN * lo["spacing"])), REFINE_GRID_SPACING_POINTS)),
+    }
+    axes = [grids[name] if name in free and first else [x[name]] for name in ("length", "spacing")]
+    for length in axes[0]:
+        for spacing in axes[1]:
+            trial = clamp({"length": length, "spacing": spacing})
+            r_trial = gamma(trial)
+            if np.hypot(*r_trial) < np.hypot(*r):
+                x, r = trial, r_trial
+    for _ in range(REFINE_ITERATIONS):
+        if np.hypot(*r) < REFINE_GAMMA_TOL:
+            break
+        jac = np.empty((2, len(free)))
+        for j, name in enumerate(free):
+            trial = dict(x)
+            trial[name] = x[name] + steps[name]
+            r_step = gamma(trial) if trial[name] <= hi[name] else None
+            if r_step is None or r_step[0] == 1.0:
+                trial[name] = x[name] - steps[name]
+                r_step = gamma(trial)
+            jac[:, j] = (r_step - r) / (trial[name] - x[name])
+        delta, *_ = np.linalg.lstsq(jac, -r, rcond=None)
+        # Shrink the whole step (never one component: near the match valley the Jacobian is
+        # close to singular and clipping a component would turn the step off the valley).
+        scale = min([1.0] + [REFINE_MAX_STEP_FRACTION * x[name] / abs(delta[j]) for j, name in enumerate(free) if delta[j]])
+        delta = delta * scale
+        t = 1.0
+        for _ in range(REFINE_BACKTRACKS):
+            trial = clamp({k: x[k] + t * delta[free.index(k)] if k in free else x[k] for k in x})
+            r_trial = gamma(trial)
+            if np.hypot(*r_trial) < np.hypot(*r):
+                x, r = trial, r_trial
+                break
+            t *= 0.5
+        else:
+            break  # no descent along the Gauss-Newton direction: the best within the bounds
+    at_limit = "length" in free and (hi["length"] - x["length"] < REFINE_LIMIT_SLACK_MM or gamma({**x, "length": x["length"] + steps["length"]})[0] == 1.0)
+    return x, float(np.hypot(*r)), at_limit

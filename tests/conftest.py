@@ -2,8 +2,12 @@
 
 from __future__ import annotations
 
-import json
 import os
+
+# Small dense solves: one BLAS thread is faster (and the machine has two cores); before numpy loads.
+os.environ.setdefault("OPENBLAS_NUM_THREADS", "1")
+
+import json  # noqa: E402
 import shutil
 import subprocess
 import sys

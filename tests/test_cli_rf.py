@@ -21,6 +21,9 @@ from footgen.spec import load_spec, parse_spec
 TEMPLATES = Path(__file__).resolve().parents[1] / "templates"
 EXIT_INPUT = 2
 EXIT_OVERWRITE = 3
+#: The fast registered response model; the checks hold for any model of sizing.MODELS (the
+#: default MoM model takes minutes per retune, so it is exercised only where marked slow).
+MODEL = "tline"
 
 
 @click.group(cls=FootgenGroup)
@@ -33,7 +36,11 @@ for command in COMMANDS:
 
 
 def run(*args: str):
-    return CliRunner().invoke(group, [str(a) for a in args], catch_exceptions=False)
+    """Invoke a command with the fast model (``--model`` is an option of every loop command)."""
+    words = [str(a) for a in args]
+    if "--help" not in words:
+        words += ["--model", MODEL]
+    return CliRunner().invoke(group, words, catch_exceptions=False)
 
 
 @pytest.fixture()
@@ -47,13 +54,13 @@ def spec_path(tmp_path: Path) -> Path:
 def measured(tmp_path: Path, spec_path: Path) -> Path:
     """Synthetic board: the model of the same copper on eps_r 4.9 (invented), written by scikit-rf."""
     spec = load_spec(spec_path)
-    numbers = sizing.size(spec)
+    numbers = sizing.size(spec, model=MODEL)
     raw = copy.deepcopy(spec.raw)
     raw["laminate"]["eps_r"] = 4.9
     raw["arm"] = {"length_mm": numbers.arm_length_mm, "height_mm": numbers.height_mm, "feed_short_spacing_mm": numbers.feed_short_spacing_mm}
     board = parse_spec(raw)
     f = np.linspace(2.0e9, 2.9e9, 451)
-    z = sizing.MODELS[sizing.DEFAULT_MODEL].zin_ohm(f, evaluator(board).ifa(numbers.arm_length_mm, numbers.height_mm, numbers.feed_short_spacing_mm))
+    z = sizing.MODELS[MODEL].zin_ohm(f, evaluator(board).ifa(numbers.arm_length_mm, numbers.height_mm, numbers.feed_short_spacing_mm))
     net = skrf.Network(frequency=skrf.Frequency.from_f(f, unit="hz"), s=((z - 50) / (z + 50)).reshape(-1, 1, 1), z0=50.0)
     net.write_touchstone(str(tmp_path / "board"), form="db")
     return tmp_path / "board.s1p"
@@ -114,7 +121,7 @@ def test_diff_reports_the_arm_change(tmp_path, spec_path):
     data["arm"] = {"length_mm": 19.0}
     other = tmp_path / "b.json"
     other.write_text(json.dumps(data), "utf-8")
-    sized = sizing.size(load_spec(spec_path)).arm_length_mm
+    sized = sizing.size(load_spec(spec_path), model=MODEL).arm_length_mm
     result = run("diff", spec_path, other)
     assert result.exit_code == 0
     assert f"arm length: {sized:.4f} -> 19.0000 mm ({19.0 - sized:+.4f} mm)" in result.output
@@ -126,6 +133,10 @@ def test_match_measured_and_predicted(spec_path, measured):
     b = run("match", spec_path, "--series", "E12")
     assert b.exit_code == 0 and "predicted" in b.output
     assert "L series-at-load" in b.output or "L shunt-at-load" in b.output
+    d = run("match", "--measured", measured, "--f0-mhz", "2441.75", "--band-mhz", "2400", "2483.5")
+    assert d.exit_code == 0 and d.output != a.output  # the band changes the worst-case column
+    e = run("match", "--measured", measured, "--f0-mhz", "2441.75", "--band-mhz", "2300", "2400")
+    assert e.exit_code == EXIT_INPUT and e.stderr.startswith("footgen: error: --band-mhz")
     c = run("match", "--measured", measured)
     assert c.exit_code == EXIT_INPUT and "--f0-mhz" in c.output + c.stderr
 
@@ -149,3 +160,19 @@ def test_report_corrected_by_the_previous_sweep(tmp_path, spec_path, measured):
     lonely = run("report", out, "--previous-measured", measured, "-o", tmp_path / "rep2")
     assert lonely.exit_code == EXIT_INPUT and "--previous" in lonely.output + lonely.stderr
     assert not (tmp_path / "rep2").exists()
+
+
+def test_diff_of_two_footprints(tmp_path, spec_path):
+    from footgen import build
+
+    paths = []
+    for arm in (18.0, 19.5):
+        data = json.loads(spec_path.read_text("utf-8"))
+        data["arm"] = {"length_mm": arm, "height_mm": 5.3, "feed_short_spacing_mm": 0.95}
+        path = tmp_path / f"a{arm}.kicad_mod"
+        path.write_text(build.run(parse_spec(data)).footprint_text, "utf-8")
+        paths.append(path)
+    result = run("diff", *paths)
+    assert result.exit_code == 0
+    # a 0.8 mm strip lengthened by 1.5 mm gains 1.2 mm^2 (plane geometry)
+    assert "(+1.2000 mm^2)" in result.output and "copper bounding-box width" in result.output

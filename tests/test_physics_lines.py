@@ -393,3 +393,44 @@ def test_out_of_range_inputs_are_refused(call, name):
     message = str(info.value)
     assert name in message
     assert "\n" not in message
+
+
+# --------------------------------------------------------------------------------------------
+# strip beside a ground edge: closed form corrected to the finite-volume solver
+# (accuracy against the solver is checked in tests/test_quasistatic2d.py)
+# --------------------------------------------------------------------------------------------
+
+
+@settings(max_examples=200)
+@given(width=strip_w, gap=strip_g, eps_r=eps_values, height=slab_h)
+def test_fitted_strip_stays_within_physical_bounds(width, gap, eps_r, height):
+    # Physics: 1 <= eps_eff <= (eps_r + 1)/2 for coplanar conductors on one face of a slab (the
+    # half-space value is the most the field can see); holds inside and outside the fit range.
+    z, e = lines.strip_beside_ground_edge_fitted(width, gap, eps_r, height)
+    assert 1.0 <= float(e) <= (eps_r + 1) / 2 + 1e-12
+    # Z0 from the exact air capacitance: Z0 = Z0_air / sqrt(eps_eff).
+    z_air = float(lines.z0_strip_beside_ground_edge_air(width, gap))
+    assert float(z) == pytest.approx(z_air / math.sqrt(float(e)), rel=1e-12)
+
+
+@given(width=strip_w, gap=strip_g, height=slab_h)
+def test_fitted_strip_in_air_is_air(width, gap, height):
+    # Physics: eps_r = 1 is free space, eps_eff = 1 exactly (filling factor times zero).
+    assert float(lines.eps_eff_strip_beside_ground_edge_fitted(width, gap, 1.0, height)) == 1.0
+
+
+def test_fitted_strip_raises_the_closed_form_where_the_gap_is_wide():
+    # Documents the direction of the correction (FV solver, tests/test_quasistatic2d.py): the
+    # partial-capacitance value is low, by more for gaps much wider than the slab.
+    near = lines.eps_eff_strip_beside_ground_edge_fitted(0.8e-3, 0.6e-3, 4.4, 1.6e-3)
+    far = lines.eps_eff_strip_beside_ground_edge_fitted(0.8e-3, 10e-3, 4.4, 0.4e-3)
+    near_pc = lines.eps_eff_strip_beside_ground_edge(0.8e-3, 0.6e-3, 4.4, 1.6e-3)
+    far_pc = lines.eps_eff_strip_beside_ground_edge(0.8e-3, 10e-3, 4.4, 0.4e-3)
+    assert near > near_pc
+    assert far / far_pc - 1.0 > near / near_pc - 1.0
+
+
+def test_fitted_strip_refuses_bad_inputs():
+    with pytest.raises(SolverError, match="thickness_m") as info:
+        lines.strip_beside_ground_edge_fitted(1e-3, 1e-3, 4.4, -1e-3)
+    assert "\n" not in str(info.value)

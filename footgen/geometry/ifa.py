@@ -48,6 +48,7 @@ class IfaCopper:
     short_x_mm: float
     height_mm: float
     meander_count: int
+    meander_pitch_mm: float | None = None
 
     @cached_property
     def polygon(self) -> Polygon:
@@ -195,4 +196,4 @@ def meandered_ifa(
         height_mm=h, feed_short_spacing_mm=s, trace_width_mm=trace_width_mm, short_width_mm=short_width_mm, feed_root_mm=feed_root_mm, short_root_mm=short_root_mm
     )
     arm = Trace("arm", ((-s - short_width_mm / 2, h),) + arm_path[1:], trace_width_mm)
-    return IfaCopper((short, feed, arm), arm_path, 0.0, -s, h, used_turns)
+    return IfaCopper((short, feed, arm), arm_path, 0.0, -s, h, used_turns, pitch)

@@ -122,6 +122,9 @@ class Sizing:
     feed_short_spacing_mm: float
     method: str
     notes: tuple[str, ...] = ()
+    #: A meander pitch fixed by the sizing (a fitted meander's pitch, frozen while refining so
+    #: the copper changes continuously with the arm length); None: from the spec or fitted.
+    meander_pitch_mm: float | None = None
 
 
 # ---------------------------------------------------------------------------------------------
@@ -180,7 +183,7 @@ def generate_copper(spec: Spec, sizing: Sizing) -> IfaCopper:
             x_max_mm=arm_x_limit_mm(spec, s),
             min_pitch_mm=min_meander_pitch_mm(spec),
             meander_height_mm=meander_depth_mm(spec, sizing.height_mm),
-            meander_pitch_mm=spec.style.meander_pitch_mm,
+            meander_pitch_mm=spec.style.meander_pitch_mm if sizing.meander_pitch_mm is None else sizing.meander_pitch_mm,
         )
     generator = get_generator(spec.style.kind)
     try:
@@ -354,6 +357,7 @@ def transform_layout(layout: Layout, matrix: tuple[int, int, int, int], grid_mm:
         short_x_mm=copper.short_x_mm,
         height_mm=copper.height_mm,
         meander_count=copper.meander_count,
+        meander_pitch_mm=copper.meander_pitch_mm,
     )
     pads = tuple(
         replace(

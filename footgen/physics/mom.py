@@ -12,7 +12,12 @@ of Moments in Electromagnetics", 2nd ed. 2014, ch. 3 and 5):
 * Self and touching segment pairs: the static part ``1/R`` of the inner integral is integrated in
   closed form (linear weights), the remainder ``(exp(-jkR) - 1)/R`` and the outer integral by
   Gauss-Legendre quadrature on a cosine-graded mesh.  Close pairs use a product Gauss rule, far
-  pairs the segment-midpoint rule (its first-order error cancels within each triangle).
+  pairs the segment-midpoint rule (its first-order error cancels within each triangle).  The far
+  tier's static part ``1/R`` is filled once in float64; its dynamic part ``(exp(-jkR) - 1)/R``
+  (bounded by ``k``) per frequency in float32, which keeps the scalar-potential differences exact
+  enough (a float32 ``exp(-jkR)/R`` would not: the Phi term is ~1/(kl)^2 larger than A).
+* Solve: LAPACK via numpy (LU) or, for >= SYM_SOLVE_MIN_UNKNOWNS, scipy's complex-symmetric
+  LDL^T (Z is symmetric by reciprocity and Galerkin testing).
 * Delta-gap source: applied field ``V / l`` on one segment; ``Zin = V / I(segment centre)``,
   which equals ``V^2 / (v^T Z^-1 v)`` (variational).
 * Laminate: copper on the top face of a dielectric slab (free-standing, air on both sides).  The
@@ -20,6 +25,9 @@ of Moments in Electromagnetics", 2nd ed. 2014, ch. 3 and 5):
   scalar-potential kernel ``1/(4 pi eps0 R)`` is replaced by the static potential of a point charge
   on the slab surface (image series, :func:`slab_static_image_weights`), the dynamic remainder
   ``(exp(-jkR) - 1)/R`` stays free space.  Loss tangent enters through a complex permittivity.
+  So only the near (capacitive) field sees the laminate and radiation stays free space.  The slab
+  is taken as laterally infinite; its surface-wave and dynamic corrections are ignored (thin slab,
+  ``t / lambda ~ 0.01``).
 * Conductor loss: surface impedance ``(1 + j) Rs / perimeter`` per unit length of trace (Balanis,
   "Antenna Theory", 4th ed., sec. 2.14, high-frequency resistance of a conductor, from memory).
 * Frequency sweeps: impedance-matrix interpolation after removing the phase ``exp(-jk D_mn)``
@@ -31,9 +39,11 @@ from __future__ import annotations
 
 import math
 from collections.abc import Callable
+from concurrent.futures import Future, ThreadPoolExecutor
 from dataclasses import dataclass, field
 
 import numpy as np
+import scipy.linalg
 import scipy.sparse as sp
 from scipy.linalg.blas import zaxpy
 
@@ -42,7 +52,9 @@ from footgen.errors import SolverError
 
 NODE_MERGE_TOL_M = 1e-9
 MIN_SEGMENT_TO_RADIUS = 2.0
-NEAR_PAIR_FACTOR = 3.5  # close pairs: centre distance < factor * mean length (not an integer: uniform meshes sit at integer multiples)
+# close pairs: centre distance < factor * mean length (not an integer: on uniform meshes pair
+# distances sit at integer multiples, where rounding would flip the tier)
+NEAR_PAIR_FACTOR = 3.5
 OUTER_POINTS_SINGULAR = 12
 INNER_POINTS_SINGULAR = 6
 POINTS_NEAR = 4
@@ -50,6 +62,8 @@ SLAB_IMAGE_REL_TOL = 1e-6
 SLAB_MAX_IMAGES = 400
 INTERP_PHASE_STEP_RAD = 1.0  # anchor spacing: (k_{i+1} - k_i) * max basis distance
 SOLVE_CHUNK = 16
+SWEEP_SOLVE_WORKERS = 2  # solver threads in sweeps (the machine target has 2 cores)
+SYM_SOLVE_MIN_UNKNOWNS = 500  # below this numpy's batched LU is as fast
 COPPER_CONDUCTIVITY_S_PER_M = 5.8e7
 FAR_REAL = np.float32  # far-tier (midpoint rule) precision; near and self terms are float64
 FAR_COMPLEX = np.complex64
@@ -376,7 +390,6 @@ class MomSolver:
             "sing": self._expand_pairs(sing_p, sing_q),
             "near": self._expand_pairs(near_p, near_q),
         }
-        self._delta = delta
         # source vector: applied field V/l on the source segment, V = 1
         on_src = hs == mesh.source_seg
         self._v = np.zeros(n_basis)
@@ -430,7 +443,7 @@ class MomSolver:
             "loc1": loc_first,
             "loc2": loc_second,
             "w_a": sig * np.einsum("nd,nd->n", mesh.units[seg_o], mesh.units[seg_s]),
-            "w_phi": sig * self_delta(mesh, h_obs) * self_delta(mesh, h_src) / (mesh.lengths[seg_o] * mesh.lengths[seg_s]),
+            "w_phi": sig * half_divergence_sign(mesh, h_obs) * half_divergence_sign(mesh, h_src) / (mesh.lengths[seg_o] * mesh.lengths[seg_s]),
             "mid": (seg_o, seg_s),
             "flat": flat,
         }
@@ -564,13 +577,16 @@ class MomSolver:
 
     def zin_ohm(self, freq_hz: float) -> complex:
         """Input impedance at the delta-gap source (full fill and LAPACK solve)."""
-        z = self.impedance_matrix(freq_hz)
-        return complex(1.0 / (self._v @ np.linalg.solve(z, self._v.astype(complex))))
+        return complex(1.0 / (self._v @ self.currents(freq_hz)))
 
     def currents(self, freq_hz: float) -> np.ndarray:
         """Basis-function current amplitudes (A) for 1 V at the source."""
         z = self.impedance_matrix(freq_hz)
-        return np.linalg.solve(z, self._v.astype(complex))
+        rhs = self._v.astype(complex)
+        if z.shape[0] >= SYM_SOLVE_MIN_UNKNOWNS:
+            # Galerkin Z is complex symmetric (reciprocity): LDL^T (zsysv) needs half the LU flops
+            return scipy.linalg.solve(z, rhs, assume_a="sym", check_finite=False, overwrite_a=True)
+        return np.linalg.solve(z, rhs)
 
     @property
     def basis_distance_m(self) -> np.ndarray:
@@ -659,38 +675,53 @@ class MomSolver:
         slab = self._slab_phi.reshape(-1) if self._slab_phi is not None else None
         out = np.empty(freqs.shape[0], complex)
         v = self._v.astype(complex)
-        for start in range(0, freqs.shape[0], SOLVE_CHUNK):
-            stop = min(start + SOLVE_CHUNK, freqs.shape[0])
-            z_batch = np.empty((stop - start, n_b, n_b), complex)
-            for j, i in enumerate(range(start, stop)):
-                x = float(k_all[i])
-                if i > 0:
-                    if uniform:
-                        phase *= step
-                    else:
-                        phase = np.exp(-1j * x * dist).reshape(-1)
-                c_m1, c_0, c_1, c_2, c_3 = (m.reshape(-1) for m in laurent(int(group[i])))
-                zj = z_batch[j].reshape(-1)
-                np.multiply(c_3, x, out=zj)
-                zaxpy(c_2, zj, a=1.0)
-                zj *= x
-                zaxpy(c_1, zj, a=1.0)
-                zj *= x
-                zaxpy(c_0, zj, a=1.0)
-                zaxpy(c_m1, zj, a=1.0 / x)
-                zj *= phase
-                if slab is not None:
-                    zaxpy(slab, zj, a=-1j * ETA0_OHM / x)
-                if self._loss_idx.shape[0]:
-                    zj[self._loss_idx] += (1.0 + 1j) * self.surface_resistance_ohm(float(freqs[i])) * self._loss_val
-            cur = np.linalg.solve(z_batch, np.broadcast_to(v, (z_batch.shape[0], n_b))[..., None])[..., 0]
-            out[start:stop] = 1.0 / (cur @ v)
-            if progress is not None:
-                progress(stop, freqs.shape[0])
+
+        def solve_batch(z_batch: np.ndarray) -> np.ndarray:
+            if n_b >= SYM_SOLVE_MIN_UNKNOWNS:
+                cur = np.stack([scipy.linalg.solve(zz, v, assume_a="sym", check_finite=False, overwrite_a=True)
+                                for zz in z_batch])
+            else:
+                cur = np.linalg.solve(z_batch, np.broadcast_to(v, (z_batch.shape[0], n_b))[..., None])[..., 0]
+            return 1.0 / (cur @ v)
+
+        # the main thread assembles chunk after chunk (phase recurrence is sequential) while worker
+        # threads run the LAPACK solves (numpy releases the GIL there): both cores stay busy
+        pending: list[tuple[int, int, Future]] = []
+        with ThreadPoolExecutor(max_workers=SWEEP_SOLVE_WORKERS) as pool:
+            for start in range(0, freqs.shape[0], SOLVE_CHUNK):
+                stop = min(start + SOLVE_CHUNK, freqs.shape[0])
+                z_batch = np.empty((stop - start, n_b, n_b), complex)
+                for j, i in enumerate(range(start, stop)):
+                    x = float(k_all[i])
+                    if i > 0:
+                        if uniform:
+                            phase *= step
+                        else:
+                            phase = np.exp(-1j * x * dist).reshape(-1)
+                    c_m1, c_0, c_1, c_2, c_3 = (m.reshape(-1) for m in laurent(int(group[i])))
+                    zj = z_batch[j].reshape(-1)
+                    np.multiply(c_3, x, out=zj)
+                    zaxpy(c_2, zj, a=1.0)
+                    zj *= x
+                    zaxpy(c_1, zj, a=1.0)
+                    zj *= x
+                    zaxpy(c_0, zj, a=1.0)
+                    zaxpy(c_m1, zj, a=1.0 / x)
+                    zj *= phase
+                    if slab is not None:
+                        zaxpy(slab, zj, a=-1j * ETA0_OHM / x)
+                    if self._loss_idx.shape[0]:
+                        zj[self._loss_idx] += (1.0 + 1j) * self.surface_resistance_ohm(float(freqs[i])) * self._loss_val
+                pending.append((start, stop, pool.submit(solve_batch, z_batch)))
+                while len(pending) > SWEEP_SOLVE_WORKERS or (pending and stop == freqs.shape[0]):
+                    first, last, fut = pending.pop(0)
+                    out[first:last] = fut.result()
+                    if progress is not None:
+                        progress(last, freqs.shape[0])
         return out
 
 
-def self_delta(mesh: _Mesh, halves: np.ndarray) -> np.ndarray:
+def half_divergence_sign(mesh: _Mesh, halves: np.ndarray) -> np.ndarray:
     """Sign of the divergence of a half triangle: +1 at the segment end node, -1 at the start."""
     return np.where(mesh.half_loc[halves] == 1, 1.0, -1.0)
 
@@ -714,7 +745,6 @@ def zin_sweep_ohm(
 
 
 __all__ = [
-    "ETA0_OHM",
     "MomSolver",
     "Slab",
     "Wire",

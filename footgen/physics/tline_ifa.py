@@ -3,13 +3,18 @@
 Model
 -----
 The arm and the ground edge form a quasi-TEM line (a strip beside a coplanar ground half-plane,
-:func:`footgen.physics.lines.z0_strip_beside_ground_edge`, evaluated per arm segment at that
-segment's height; a segment perpendicular to the edge uses its mean height).  The feed leg taps
-this line at ``feed_x_m``; from the tap the port sees two lines in parallel:
+evaluated per arm segment at that segment's height; a segment perpendicular to the edge uses
+its mean height).  Its Z0 and eps_eff come from :data:`LINE_MODELS` (default ``fitted``:
+:func:`footgen.physics.lines.strip_beside_ground_edge_fitted`, the partial-capacitance closed
+form corrected to the 2-D finite-volume solver :mod:`footgen.physics.quasistatic2d`), memoised
+per cross-section (:func:`line_constants`).  In a meander, segments perpendicular to the ground
+edge have their inductance per metre scaled by the mutual inductance of the other folds
+(:func:`meander_inductance_factors`).  The feed leg taps this line at ``feed_x_m``; from the
+tap the port sees two lines in parallel:
 
 * the shorted stub from the tap back to the short leg, terminated by ``R_rad + j w L_short``;
-* the open arm from the tap to the open end (open circuit; fringing at the end is ignored,
-  which puts the predicted resonance slightly high).
+* the open arm from the tap to the open end (open circuit; fringing at the end is ignored
+  unless ``open_end_extension_m`` is set).
 
 The feed leg and the short leg (height ``H``) are coupled inductors (partial self-inductances
 ``L_feed``, ``L_short`` and their mutual ``M``, Grover): the port voltage is the tap voltage plus
@@ -23,11 +28,10 @@ Approximations the numbers cannot escape
 ----------------------------------------
 * Quasi-static line constants (no dispersion); conductor loss ignored; dielectric loss from the
   laminate's loss tangent with the quasi-TEM filling factor.
-* A meandered arm is its centreline length: the meander's mutual coupling (antiparallel
-  currents in adjacent folds, which shorten the electrical length of a real meander) is
-  ignored, and a meander leg perpendicular to the ground edge is treated as a line at its mean
-  height.  Expect a meandered arm to resonate higher than predicted (common practice, no
-  source).  No correction is applied.
+* A meandered arm is its centreline length with the folds' inductive coupling (filament
+  mutual inductances, antiparallel currents in adjacent folds) applied to the segments
+  perpendicular to the ground edge; the folds' capacitive coupling and the coupling of the
+  parallel-to-edge segments are ignored, and a fold is a line at its mean height.
 * Leg inductances are thin-strip partial inductances; their coupling to the arm line is ignored.
 * Radiation is one series resistance at the current maximum (the short).  A physics-only
   estimate (the legs as a Hertzian dipole, :func:`radiation_resistance_hertzian_legs_ohm`)
@@ -37,15 +41,17 @@ Approximations the numbers cannot escape
   calibration, common practice, no source; replace it by a fit to full-wave results when those
   exist.  The ground-plane size (``ifa.ground``) is not used.
 
-Known accuracy (measured while writing this model, not checked by a test)
--------------------------------------------------------------------------
-* The partial-capacitance eps_eff of the arm line is 6-15 % below a 2-D finite-volume solution
-  for gaps of 0.6-4 slab thicknesses (FR-4, 1.6 mm), so the line part alone puts the
-  resonance 3-8 % high.
-* On the openEMS development case ``dev_straight_16`` (tests/fullwave) the model's pole is at
-  2.74 GHz against openEMS's parallel resonance near 2.10 GHz (+30 %); the peak resistance is
-  of the right size (387 vs 322 ohm).  Use ``eps_eff_scale`` / ``open_end_extension_m`` fits
-  before trusting the frequency.
+Known accuracy
+--------------
+* The default arm line is within 0.8 % (eps_eff) of the finite-volume solver over w 0.2-2 mm,
+  g 0.5-20 mm, h 0.4-1.6 mm, eps_r 2-10 (tests/test_quasistatic2d.py); the plain
+  partial-capacitance form (``line_model="partial_capacitance"``) is up to 26 % low there.
+* On the openEMS development cases (tests/fullwave, checked by
+  tests/test_tline_ifa.py::test_development_case_error_against_openems) the model is still far
+  off: dev_straight_16 +16 % (parallel Im(Z_in) = 0) and +15 % (min |S11|), dev_meander_08
+  -13 % and -17 %.  The straight arm resonates lower in full wave than any line-length effect
+  here explains (open-end fringing, the open feed leg's capacitance and the finite ground are
+  not modelled); do not trust the frequency to better than about 20 %.
 
 Estimates never replace measurement; radio products must meet local radio regulations and
 RF-exposure limits.
@@ -65,8 +71,10 @@ from scipy import optimize
 from footgen.constants import C0_M_PER_S, MU0_H_PER_M, PI
 from footgen.errors import SolverError
 from footgen.physics.ifa import PrintedIfa
+from footgen.physics import quasistatic2d
 from footgen.physics.lines import (
     eps_eff_strip_beside_ground_edge,
+    strip_beside_ground_edge_fitted,
     z0_strip_beside_ground_edge,
 )
 
@@ -86,6 +94,9 @@ RESONANCE_SEARCH_POINTS = 241
 ROOT_RTOL = 1e-9
 #: Lengths below this are treated as zero (m).
 LENGTH_EPS_M = 1e-12
+#: Smallest inductance factor a meander fold may reach (guards very dense meanders, where the
+#: thin-filament coupling estimate is meaningless).
+MEANDER_MIN_INDUCTANCE_FACTOR = 0.2
 #: Distinct (width, gap, eps_r, thickness) line cross-sections remembered by
 #: :func:`line_constants`.
 LINE_CACHE_SIZE = 65536
@@ -99,7 +110,9 @@ class TlineIfaOptions:
     ``radiation_resistance_ohm`` (if set) overrides it with a fixed value.  ``eps_eff_scale``
     multiplies every section's eps_eff (dividing Z0 by its square root: the line's capacitance
     scales, its inductance does not) and ``open_end_extension_m`` lengthens the open end; both
-    are neutral by default and exist for fits to full-wave results.
+    are neutral by default and exist for fits to full-wave results.  ``line_model`` names an
+    entry of :data:`LINE_MODELS` for the arm line's Z0 and eps_eff; ``meander_coupling``
+    applies :func:`meander_inductance_factors` to segments perpendicular to the ground edge.
     """
 
     leg_inductance: bool = True
@@ -108,6 +121,8 @@ class TlineIfaOptions:
     radiation_resistance_ohm: float | None = None
     eps_eff_scale: float = 1.0
     open_end_extension_m: float = 0.0
+    line_model: str = "fitted"
+    meander_coupling: bool = True
 
 
 DEFAULT_OPTIONS = TlineIfaOptions()
@@ -155,6 +170,79 @@ def parallel_filaments_mutual_inductance_h(length_m: float, distance_m: float) -
         / (2.0 * PI)
         * (math.asinh(1.0 / ratio) - math.sqrt(1.0 + ratio * ratio) + ratio)
     )
+
+
+def _neumann_primitive(t: float, distance_m: float) -> float:
+    """``G(t) = t asinh(t/d) - sqrt(t^2 + d^2)``, with ``G'' = 1/sqrt(t^2 + d^2)``."""
+    return t * math.asinh(t / distance_m) - math.hypot(t, distance_m)
+
+
+def parallel_filaments_offset_mutual_inductance_h(
+    start_a_m: float, end_a_m: float, start_b_m: float, end_b_m: float, distance_m: float
+) -> float:
+    """Mutual partial inductance (H) of two parallel filaments ``distance_m`` apart spanning
+    ``[start_a, end_a]`` and ``[start_b, end_b]`` along their common direction (both currents
+    pointing the same way; negate for antiparallel currents).
+
+    Neumann's formula ``M = mu0/(4 pi) int int dz_a dz_b / r`` (Paul, "Inductance: Loop and
+    Partial", 2010, ch. 5 (from memory)) integrated in closed form here:
+    ``M = mu0/(4 pi) [G(b2 - a1) - G(b1 - a1) - G(b2 - a2) + G(b1 - a2)]`` with
+    ``G(t) = t asinh(t/d) - sqrt(t^2 + d^2)``; equal spans give
+    :func:`parallel_filaments_mutual_inductance_h`.
+    """
+    if not (start_a_m < end_a_m and start_b_m < end_b_m and distance_m > 0.0):
+        raise SolverError(
+            f"filament spans [{start_a_m!r}, {end_a_m!r}], [{start_b_m!r}, {end_b_m!r}] and "
+            f"distance_m = {distance_m!r}: need start < end and distance > 0"
+        )
+    g = _neumann_primitive
+    total = (
+        g(end_b_m - start_a_m, distance_m)
+        - g(start_b_m - start_a_m, distance_m)
+        - g(end_b_m - end_a_m, distance_m)
+        + g(start_b_m - end_a_m, distance_m)
+    )
+    return MU0_H_PER_M / (4.0 * PI) * total
+
+
+def meander_inductance_factors(ifa: PrintedIfa) -> tuple[float, ...]:
+    """Per arm segment (path order): the factor on the line's inductance per metre from the
+    other segments perpendicular to the ground edge (meander folds).
+
+    A perpendicular segment ``k`` gets ``1 + sum_j s_kj M_kj / L_k``: ``L_k`` its thin-strip
+    partial self-inductance (:func:`strip_partial_inductance_h`), ``M_kj`` the filament mutual
+    inductance with every other perpendicular segment ``j``
+    (:func:`parallel_filaments_offset_mutual_inductance_h`), ``s_kj = -1`` when the two carry
+    antiparallel currents (adjacent folds) and ``+1`` when parallel.  Parallel-to-edge
+    segments keep 1 (their coupling is ignored).  Floored at
+    :data:`MEANDER_MIN_INDUCTANCE_FACTOR`.  Physical motivation: antiparallel currents in
+    adjacent folds cancel part of each other's flux, so a meander is electrically shorter than
+    its centreline; capacitive coupling between folds is ignored.
+    """
+    segments = list(zip(ifa.arm_path_m, ifa.arm_path_m[1:]))
+    vertical = [
+        (x0, min(y0, y1), max(y0, y1), math.copysign(1.0, y1 - y0))
+        if abs(x1 - x0) <= LENGTH_EPS_M and abs(y1 - y0) > LENGTH_EPS_M
+        else None
+        for (x0, y0), (x1, y1) in segments
+    ]
+    factors = []
+    for k, seg in enumerate(vertical):
+        if seg is None:
+            factors.append(1.0)
+            continue
+        x_k, lo_k, hi_k, dir_k = seg
+        self_h = strip_partial_inductance_h(hi_k - lo_k, ifa.trace_width_m)
+        coupled = 0.0
+        for j, other in enumerate(vertical):
+            if other is None or j == k or abs(other[0] - x_k) <= LENGTH_EPS_M:
+                continue
+            x_j, lo_j, hi_j, dir_j = other
+            coupled += dir_k * dir_j * parallel_filaments_offset_mutual_inductance_h(
+                lo_k, hi_k, lo_j, hi_j, abs(x_j - x_k)
+            )
+        factors.append(max(1.0 + coupled / self_h, MEANDER_MIN_INDUCTANCE_FACTOR))
+    return tuple(factors)
 
 
 @dataclass(frozen=True)
@@ -244,11 +332,14 @@ def radiation_resistance_ohm(
 
 @dataclass(frozen=True)
 class LineSection:
-    """One arm segment as a line: length, characteristic impedance, effective permittivity."""
+    """One arm segment as a line: length, characteristic impedance, effective permittivity and
+    the factor on its inductance per metre from neighbouring meander folds (the phase constant
+    scales with its square root; ``z0_ohm`` already includes it)."""
 
     length_m: float
     z0_ohm: float
     eps_eff: float
+    inductance_factor: float = 1.0
 
 
 def _check_ifa(ifa: PrintedIfa) -> None:
@@ -275,26 +366,70 @@ def _check_ifa(ifa: PrintedIfa) -> None:
             )
 
 
-@functools.lru_cache(maxsize=LINE_CACHE_SIZE)
-def line_constants(
+def strip_line_partial_capacitance(
     width_m: float, gap_m: float, eps_r: float, thickness_m: float
 ) -> tuple[float, float]:
-    """``(Z0 ohm, eps_eff)`` of the arm line (:func:`z0_strip_beside_ground_edge`,
-    :func:`eps_eff_strip_beside_ground_edge`) as Python floats, memoised on the exact argument
-    values (a pure function: the cached and the direct values are the same bits)."""
+    """``(Z0 ohm, eps_eff)`` by the partial-capacitance closed form
+    (:func:`z0_strip_beside_ground_edge`, :func:`eps_eff_strip_beside_ground_edge`)."""
     return (
         float(z0_strip_beside_ground_edge(width_m, gap_m, eps_r, thickness_m)),
         float(eps_eff_strip_beside_ground_edge(width_m, gap_m, eps_r, thickness_m)),
     )
 
 
-def _line_at_height(ifa: PrintedIfa, height_m: float, length_m: float) -> LineSection:
+def strip_line_fitted(
+    width_m: float, gap_m: float, eps_r: float, thickness_m: float
+) -> tuple[float, float]:
+    """``(Z0 ohm, eps_eff)`` by the closed form corrected to the finite-volume solver
+    (:func:`footgen.physics.lines.strip_beside_ground_edge_fitted`)."""
+    z0, eps_eff = strip_beside_ground_edge_fitted(width_m, gap_m, eps_r, thickness_m)
+    return float(z0), float(eps_eff)
+
+
+#: Arm-line models by name: ``(width_m, gap_m, eps_r, thickness_m) -> (Z0 ohm, eps_eff)``.
+#: ``finite_volume`` solves the cross-section (about a second per new cross-section, then
+#: cached); ``fitted`` is its closed-form fit; ``partial_capacitance`` the plain closed form.
+LINE_MODELS: dict[str, Callable[[float, float, float, float], tuple[float, float]]] = {
+    "partial_capacitance": strip_line_partial_capacitance,
+    "fitted": strip_line_fitted,
+    "finite_volume": quasistatic2d.strip_beside_ground_edge_fd,
+}
+
+
+@functools.lru_cache(maxsize=LINE_CACHE_SIZE)
+def line_constants(
+    line_model: str, width_m: float, gap_m: float, eps_r: float, thickness_m: float
+) -> tuple[float, float]:
+    """``(Z0 ohm, eps_eff)`` of the arm line by the :data:`LINE_MODELS` entry ``line_model``,
+    memoised on the exact argument values (the models are pure functions, so the cached and
+    the direct values are the same bits)."""
+    try:
+        model = LINE_MODELS[line_model]
+    except KeyError:
+        raise SolverError(
+            f"line_model = {line_model!r}: choose one of {sorted(LINE_MODELS)}"
+        ) from None
+    return model(width_m, gap_m, eps_r, thickness_m)
+
+
+def _line_at_height(
+    ifa: PrintedIfa, height_m: float, length_m: float, options: TlineIfaOptions,
+    inductance_factor: float = 1.0,
+) -> LineSection:
     lam = ifa.laminate
     gap = height_m - ifa.trace_width_m / 2.0
     z0, eps_eff = line_constants(
-        float(ifa.trace_width_m), float(gap), float(lam.eps_r), float(lam.thickness_m)
+        options.line_model,
+        float(ifa.trace_width_m),
+        float(gap),
+        float(lam.eps_r),
+        float(lam.thickness_m),
     )
-    return LineSection(length_m=length_m, z0_ohm=z0, eps_eff=eps_eff)
+    if inductance_factor != 1.0:
+        z0 *= math.sqrt(inductance_factor)
+    return LineSection(
+        length_m=length_m, z0_ohm=z0, eps_eff=eps_eff, inductance_factor=inductance_factor
+    )
 
 
 def feed_tap_position_m(ifa: PrintedIfa) -> float:
@@ -331,16 +466,20 @@ def arm_sections(
     short_side: list[LineSection] = []
     open_side: list[LineSection] = []
     travelled = 0.0
-    for (x0, y0), (x1, y1) in zip(ifa.arm_path_m, ifa.arm_path_m[1:]):
+    segments = list(zip(ifa.arm_path_m, ifa.arm_path_m[1:]))
+    factors = (
+        meander_inductance_factors(ifa) if options.meander_coupling else (1.0,) * len(segments)
+    )
+    for ((x0, y0), (x1, y1)), factor in zip(segments, factors):
         seg = math.hypot(x1 - x0, y1 - y0)
         if seg <= LENGTH_EPS_M:
             continue
         height = 0.5 * (y0 + y1)
         before = min(max(tap - travelled, 0.0), seg)
         if before > LENGTH_EPS_M:
-            short_side.append(_line_at_height(ifa, height, before))
+            short_side.append(_line_at_height(ifa, height, before, options, factor))
         if seg - before > LENGTH_EPS_M:
-            open_side.append(_line_at_height(ifa, height, seg - before))
+            open_side.append(_line_at_height(ifa, height, seg - before, options, factor))
         travelled += seg
     if not open_side:
         raise SolverError(f"feed_x_m = {ifa.feed_x_m!r}: the feed taps the arm at its open end")
@@ -363,6 +502,8 @@ def _electrical_lengths(freq_hz: NDArray, sections, ifa: PrintedIfa, options: Tl
     f = np.asarray(freq_hz, dtype=float)[:, np.newaxis]
     length = np.array([s.length_m for s in sections])
     eps_eff = np.array([s.eps_eff for s in sections])
+    # beta and the dielectric attenuation both scale with sqrt(L' C')
+    root_factor = np.sqrt(np.array([s.inductance_factor for s in sections]))
     beta = 2.0 * PI * f * np.sqrt(eps_eff) / C0_M_PER_S
     alpha = (
         dielectric_attenuation_np_per_m(
@@ -371,7 +512,7 @@ def _electrical_lengths(freq_hz: NDArray, sections, ifa: PrintedIfa, options: Tl
         if options.dielectric_loss
         else 0.0
     )
-    return (alpha + 1j * beta) * length
+    return (alpha + 1j * beta) * root_factor * length
 
 
 def transform_impedance(z_load: NDArray, z0_ohm: float, gamma: NDArray, length_m: float):
@@ -497,7 +638,10 @@ def quarter_wave_estimate_hz(ifa: PrintedIfa, options: TlineIfaOptions = DEFAULT
 
 
 def _quarter_wave_hz(arm: _ArmModel) -> float:
-    electrical = sum(s.length_m * math.sqrt(s.eps_eff) for s in arm.short_side + arm.open_side)
+    electrical = sum(
+        s.length_m * math.sqrt(s.eps_eff * s.inductance_factor)
+        for s in arm.short_side + arm.open_side
+    )
     return C0_M_PER_S / (4.0 * electrical)
 
 
@@ -527,6 +671,60 @@ def resonance_tline_ifa_hz(ifa: PrintedIfa, options: TlineIfaOptions = DEFAULT_O
     i = int(rising[np.argmin(np.abs(grid[rising] - f0))])
     return optimize.brentq(
         lambda f: float(susceptance(np.array([f]))[0]), grid[i], grid[i + 1], rtol=ROOT_RTOL
+    )
+
+
+def _search_grid(ifa: PrintedIfa, options: TlineIfaOptions, points: int) -> NDArray[np.float64]:
+    """Frequencies over the resonance search window around the model's pole."""
+    f_res = resonance_tline_ifa_hz(ifa, options)
+    return np.linspace(RESONANCE_SEARCH_LOW * f_res, RESONANCE_SEARCH_HIGH * f_res, points)
+
+
+def min_s11_frequency_tline_ifa_hz(
+    ifa: PrintedIfa,
+    z_ref_ohm: float = FEED_REFERENCE_OHM,
+    options: TlineIfaOptions = DEFAULT_OPTIONS,
+    points: int = RESONANCE_SEARCH_POINTS,
+) -> float:
+    """Frequency (Hz) of the smallest ``|S11|`` (against ``z_ref_ohm``, with all losses) over the
+    resonance search window: the definition of resonance used by the full-wave reference results
+    (tests/fullwave).  Best of ``points`` samples, refined by bounded Brent minimisation between
+    its neighbours."""
+    f = _search_grid(ifa, options, points)
+    mag = np.abs(s11_tline_ifa(f, ifa, z_ref_ohm, options))
+    i = int(np.argmin(mag))
+    lo, hi = f[max(i - 1, 0)], f[min(i + 1, points - 1)]
+
+    def magnitude(freq: float) -> float:
+        return float(np.abs(s11_tline_ifa(np.array([freq]), ifa, z_ref_ohm, options))[0])
+
+    found = optimize.minimize_scalar(
+        magnitude, bounds=(lo, hi), method="bounded", options={"xatol": ROOT_RTOL * f[i]}
+    )
+    return float(found.x) if found.fun <= mag[i] else float(f[i])
+
+
+def im_zin_zero_nearest_pole_hz(
+    ifa: PrintedIfa,
+    options: TlineIfaOptions = DEFAULT_OPTIONS,
+    points: int = RESONANCE_SEARCH_POINTS,
+) -> float:
+    """Frequency (Hz) where ``Im(Z_in)`` (with all losses) crosses zero nearest the lossless pole
+    (:func:`resonance_tline_ifa_hz`): the other resonance marker of the full-wave results.
+    Raises :class:`SolverError` when losses leave no crossing in the search window."""
+    f_pole = resonance_tline_ifa_hz(ifa, options)
+    f = _search_grid(ifa, options, points)
+    x = np.imag(zin_tline_ifa(f, ifa, options))
+    crossings = np.nonzero(np.sign(x[:-1]) * np.sign(x[1:]) < 0.0)[0]
+    if crossings.size == 0:
+        raise SolverError(
+            f"arm length {ifa.arm_length_m!r} m: Im(Z_in) does not cross zero between "
+            f"{f[0]:.4g} and {f[-1]:.4g} Hz"
+        )
+    i = int(crossings[np.argmin(np.abs(f[crossings] - f_pole))])
+    return optimize.brentq(
+        lambda freq: float(np.imag(zin_tline_ifa(np.array([freq]), ifa, options))[0]),
+        f[i], f[i + 1], rtol=ROOT_RTOL,
     )
 
 

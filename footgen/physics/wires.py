@@ -6,7 +6,9 @@ strip ``a_e = 0.25 w``; from memory).  The ground plane becomes a wire grid of p
 ``<= lambda / 10`` at the highest frequency (common practice for wire-grid surfaces, no source),
 refined near its radiating edge, with wire radius from the equal-area rule ``2 pi a = pitch``
 (Ludwig, "Wire grid modeling of surfaces", IEEE Trans. Antennas Propag. 35(9), 1987; from memory),
-capped so that segments stay several radii long.  The delta-gap source is the one-segment wire
+capped so that segments stay >= 4 radii long.  Segments: antenna <= lambda / 40 and <= a quarter
+of the smallest feature but >= 4 trace radii; grid <= lambda / 20; the ground edge under the
+antenna at the antenna's segment length.  The delta-gap source is the one-segment wire
 across the port gap between the ground edge and the feed leg.  All wires lie in ``z = 0``; the
 laminate is handed to the solver as a :class:`footgen.physics.mom.Slab` under the copper.
 """
@@ -26,6 +28,7 @@ from footgen.physics.mom import Slab, Wire, WireModel
 STRIP_EQUIVALENT_RADIUS_FACTOR = 0.25  # a = w / 4, Balanis 4th ed. ch. 9 (from memory)
 SEGMENTS_PER_WAVELENGTH = 40.0  # segment <= lambda / 40 (stricter than the lambda / 20 rule)
 DETAIL_SEGMENTS = 4.0  # segments across the smallest antenna feature (height, leg spacing)
+GRID_SEGMENTS_PER_WAVELENGTH = 20.0  # grid segment <= lambda / 20 (task rule)
 GRID_PITCH_PER_WAVELENGTH = 10.0  # ground grid pitch <= lambda / 10 (common practice, no source)
 EDGE_ROW_FACTOR = 1.0  # first grid rows below the edge at this many antenna heights
 GRID_GROWTH = 2.0  # grid rows grow geometrically from the edge up to the pitch
@@ -44,6 +47,7 @@ class MeshControl:
     segments_per_wavelength: float = SEGMENTS_PER_WAVELENGTH
     detail_segments: float = DETAIL_SEGMENTS
     grid_pitch_per_wavelength: float = GRID_PITCH_PER_WAVELENGTH
+    grid_segments_per_wavelength: float = GRID_SEGMENTS_PER_WAVELENGTH
 
     @property
     def wavelength_m(self) -> float:
@@ -52,6 +56,11 @@ class MeshControl:
     @property
     def max_segment_m(self) -> float:
         return self.wavelength_m / self.segments_per_wavelength
+
+    @property
+    def grid_max_segment_m(self) -> float:
+        """Ground-grid segments: the task's lambda / 20 rule (the grid carries smoother current)."""
+        return self.wavelength_m / self.grid_segments_per_wavelength
 
     @property
     def grid_pitch_m(self) -> float:
@@ -115,7 +124,8 @@ def _graded_lines(start_m: float, stop_m: float, fine_m: float, pitch_m: float) 
 def _merge_required(uniform: list[float], required: list[float], min_gap_m: float) -> list[float]:
     """Union of grid coordinates, dropping uniform ones closer than ``min_gap`` to a required one."""
     kept = [u for u in uniform if all(abs(u - r) >= min_gap_m for r in required)]
-    return sorted(set(np.round(np.array(kept + required) / GEOMETRY_TOL_M).astype(np.int64).tolist()))
+    keys = sorted(set(np.round(np.array(kept + required) / GEOMETRY_TOL_M).astype(np.int64).tolist()))
+    return [k * GEOMETRY_TOL_M for k in keys]
 
 
 def ground_grid_wires(ifa: PrintedIfa, control: MeshControl, detail_m: float) -> list[Wire]:
@@ -128,23 +138,24 @@ def ground_grid_wires(ifa: PrintedIfa, control: MeshControl, detail_m: float) ->
     x_lo, x_hi = max(g.x_min_m, min(arm_x)), min(g.x_max_m, max(arm_x))
     uniform = [g.x_min_m + i * g.width_m / max(1, math.ceil(g.width_m / pitch)) for i in range(int(math.ceil(g.width_m / pitch)) + 1)]
     required = [g.x_min_m, g.x_max_m, ifa.feed_x_m, ifa.short_x_m]
-    for x in (ifa.feed_x_m, ifa.short_x_m):
+    for name, x in (("feed_x_m", ifa.feed_x_m), ("short_x_m", ifa.short_x_m)):
         if not (g.x_min_m - GEOMETRY_TOL_M <= x <= g.x_max_m + GEOMETRY_TOL_M):
-            raise SolverError(f"leg x = {x!r} m lies outside the ground plane; move the leg onto the ground edge")
-    xs = [k * GEOMETRY_TOL_M for k in _merge_required(uniform, required, 0.5 * fine)]
+            raise SolverError(f"{name} = {x!r}: the leg must land on the ground edge "
+                              f"({g.x_min_m!r} .. {g.x_max_m!r} m)")
+    xs = _merge_required(uniform, required, 0.5 * fine)
     wires: list[Wire] = []
     # horizontal wires (along x) on every row, split at every column
     for row, y in enumerate(ys):
         for x0, x1 in zip(xs, xs[1:]):
             on_edge_near = row == 0 and x1 > x_lo - pitch and x0 < x_hi + pitch
-            max_seg = detail_m if on_edge_near else min(pitch, control.max_segment_m)
+            max_seg = detail_m if on_edge_near else min(pitch, control.grid_max_segment_m)
             n = _n_segments(x1 - x0, max_seg)
             radius = min(equal_area_grid_radius_m(pitch), (x1 - x0) / n / MIN_SEGMENT_TO_GRID_RADIUS)
             wires.append(Wire((x0, y, 0.0), (x1, y, 0.0), n, radius))
     # vertical wires (along y) on every column, split at every row
     for x in xs:
         for y0, y1 in zip(ys, ys[1:]):
-            n = _n_segments(abs(y1 - y0), min(pitch, control.max_segment_m))
+            n = _n_segments(abs(y1 - y0), min(pitch, control.grid_max_segment_m))
             radius = min(equal_area_grid_radius_m(pitch), abs(y1 - y0) / n / MIN_SEGMENT_TO_GRID_RADIUS)
             wires.append(Wire((x, y0, 0.0), (x, y1, 0.0), n, radius))
     return wires

@@ -77,8 +77,15 @@ def _message(text: str, caption: str = PLUGIN_NAME, error: bool = False) -> None
 
 
 def project_specs(project: Path) -> list[Path]:
-    """Specs already kept in the project's footgen folder."""
-    return sorted((project / placement.WORK_DIR_NAME).glob("*.json"))
+    """Specs already kept in the project's footgen folder (not the build outputs beside them)."""
+    out = []
+    for path in sorted((project / placement.WORK_DIR_NAME).glob("*.json")):
+        try:
+            cli_runner.read_spec(path)
+        except cli_runner.FootgenFailed:
+            continue
+        out.append(path)
+    return out
 
 
 def template_spec(template: str, cmd: list[str]) -> dict:
@@ -165,8 +172,8 @@ class SpecDialog:
         self.boxes["y_mm"].SetValue(f"{where.position_mm[1]:g}")
         self.rotation.SetValue(f"{where.rotation_deg:g}")
         self.boxes["reference"].SetValue(where.reference)
-        self.boxes["rf_net"].SetValue(placement.DEFAULT_RF_NET)
-        self.boxes["gnd_net"].SetValue(placement.DEFAULT_GND_NET)
+        self.boxes["rf_net"].SetValue(where.pad_nets.get(placement.FEED_PAD, placement.DEFAULT_RF_NET))
+        self.boxes["gnd_net"].SetValue(where.pad_nets.get("2", placement.DEFAULT_GND_NET))
         notes = [self.problem] if self.problem else []
         if existing:
             notes.append(f"{where.reference} is on the board: it will be regenerated in place (position, rotation, reference and nets kept).")

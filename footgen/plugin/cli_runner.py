@@ -184,8 +184,8 @@ def read_spec(spec_path: Path) -> dict:
         data = json.loads(Path(spec_path).read_text("utf-8"))
     except (OSError, json.JSONDecodeError) as exc:
         raise FootgenFailed(f"{spec_path}: cannot read the spec ({exc})", EXIT_INPUT, "") from None
-    if not isinstance(data, dict) or "name" not in data:
-        raise FootgenFailed(f"{spec_path}: not a footgen spec (no 'name' field)", EXIT_INPUT, "")
+    if not isinstance(data, dict) or "name" not in data or "schema_version" not in data:
+        raise FootgenFailed(f"{spec_path}: not a footgen spec (no 'schema_version' and 'name' fields)", EXIT_INPUT, "")
     return data
 
 

@@ -279,9 +279,10 @@ def load_footprint(pretty_dir: Path, name: str, nickname: str = PROJECT_LIBRARY)
     return footprint
 
 
-def apply_placement(board, footprint, placement: Placement, nets: dict) -> None:
+def apply_placement(board, footprint, placement: Placement, *, rf_net: str = DEFAULT_RF_NET, gnd_net: str = DEFAULT_GND_NET) -> None:
     """Put ``footprint`` (not yet on the board) where ``placement`` says and wire its pads:
-    each pad takes the net ``placement.pad_nets`` names for its number, else the role net."""
+    each pad takes the net ``placement.pad_nets`` names for its number, else pad 1 ``rf_net``
+    and pads 2 ``gnd_net`` (role nets are added to the board only when a pad needs them)."""
     import pcbnew
 
     from .board import assign_nets
@@ -293,7 +294,8 @@ def apply_placement(board, footprint, placement: Placement, nets: dict) -> None:
     footprint.SetOrientationDegrees(float(placement.rotation_deg))
     footprint.SetReference(placement.reference)
     board.Add(footprint)
-    assign_nets(footprint, nets)
+    if any(pad.GetNumber() not in placement.pad_nets for pad in footprint.Pads()):
+        assign_nets(footprint, ensure_nets(board, rf_net, gnd_net))
     for pad in footprint.Pads():
         kept = placement.pad_nets.get(pad.GetNumber())
         if kept:
@@ -304,7 +306,7 @@ def apply_placement(board, footprint, placement: Placement, nets: dict) -> None:
 def place_new(board, pretty_dir: Path, name: str, placement: Placement, *, rf_net: str = DEFAULT_RF_NET, gnd_net: str = DEFAULT_GND_NET):
     """Add a new instance of ``name`` at ``placement``; pad 1 on ``rf_net``, pads 2 on ``gnd_net``."""
     footprint = load_footprint(pretty_dir, name)
-    apply_placement(board, footprint, placement, ensure_nets(board, rf_net, gnd_net))
+    apply_placement(board, footprint, placement, rf_net=rf_net, gnd_net=gnd_net)
     return footprint
 
 
@@ -318,7 +320,7 @@ def replace(board, old, pretty_dir: Path, name: str, *, rf_net: str = DEFAULT_RF
         if hasattr(old, getter) and hasattr(footprint, setter):
             getattr(footprint, setter)(getattr(old, getter)())
     board.Remove(old)
-    apply_placement(board, footprint, kept, ensure_nets(board, rf_net, gnd_net))
+    apply_placement(board, footprint, kept, rf_net=rf_net, gnd_net=gnd_net)
     return footprint
 
 

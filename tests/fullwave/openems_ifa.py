@@ -16,8 +16,9 @@ Model (all copper is zero-thickness PEC on the laminate's top face, z = 0):
 - a 50-ohm lumped port across the gap between the ground edge (y = 0) and the feed leg's bottom,
   excitation along y (in the board plane);
 - PML_8 on all six faces behind an air margin scaled with the wavelength; a graded rectilinear
-  mesh (fine cells at copper edges, neighbour ratio <= GRADING_RATIO, >= 4 cells through the
-  laminate); end criterion END_CRITERION (energy decay).
+  mesh (fine cells at copper edges, target neighbour ratio GRADING_RATIO -- short gaps between
+  copper edges can leave up to about 1.4, the achieved maximum is recorded in each result --,
+  >= 4 cells through the laminate); end criterion END_CRITERION (energy decay).
 Outputs one JSON per case: the case inputs, S11(f), Zin(f), derived resonance figures, metadata.
 """
 
@@ -61,7 +62,8 @@ END_CRITERION = 1e-5  # energy decay to -50 dB
 MAX_TIME_STEPS = 400_000
 GRADING_RATIO = 1.3
 SPLIT_RATIO = 1.6  # see graded_lines
-# cells across the narrowest trace at copper edges, per mesh level
+# target cell at copper edges = narrowest trace width / N, per mesh level; cells grow inward at
+# the grading ratio, so a trace gets 4 (coarse) or 5 (fine) cells across its width
 CELLS_PER_WIDTH = {"coarse": 4, "fine": 6}
 MIN_LAMINATE_CELLS = 4
 # far ground-plane edges (away from the antenna) get this many times the fine edge cell
