@@ -100,7 +100,11 @@ def figure(layout: Layout, title: str, subtitle: str) -> Figure:
 
 def render_svg_png(layout: Layout, title: str, subtitle: str) -> tuple[bytes, bytes]:
     """SVG and PNG bytes of the copper drawing (deterministic for a given layout)."""
-    fig = figure(layout, title, subtitle)
+    return figure_bytes(figure(layout, title, subtitle))
+
+
+def figure_bytes(fig: Figure) -> tuple[bytes, bytes]:
+    """SVG and PNG bytes of any matplotlib Figure, deterministic (fixed SVG hash salt, no date)."""
     svg, png = io.BytesIO(), io.BytesIO()
     with matplotlib.rc_context({"svg.hashsalt": "footgen", "svg.fonttype": "none"}):
         FigureCanvasSVG(fig)

@@ -3,7 +3,6 @@ Touchstone output.  Numbers come from the response models in :mod:`footgen.sizin
 
 from __future__ import annotations
 
-import io
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Callable
@@ -89,10 +88,9 @@ def predict_spec(spec: Spec, *, model: str = DEFAULT_MODEL, progress: Callable[[
 
 def plot_s11(prediction: Prediction, measured: tuple[np.ndarray, np.ndarray] | None = None) -> tuple[bytes, bytes]:
     """SVG and PNG of |S11| in dB over the sweep, the target band shaded (deterministic bytes)."""
-    import matplotlib
-    from matplotlib.backends.backend_agg import FigureCanvasAgg
-    from matplotlib.backends.backend_svg import FigureCanvasSVG
     from matplotlib.figure import Figure
+
+    from footgen.draw import figure_bytes
 
     spec = prediction.spec
     fig = Figure(figsize=(7.0, 4.0))
@@ -109,13 +107,7 @@ def plot_s11(prediction: Prediction, measured: tuple[np.ndarray, np.ndarray] | N
     ax.legend(fontsize=8)
     ax.grid(True, lw=0.3)
     fig.tight_layout()
-    svg, png = io.BytesIO(), io.BytesIO()
-    with matplotlib.rc_context({"svg.hashsalt": "footgen", "svg.fonttype": "none"}):
-        FigureCanvasSVG(fig)
-        fig.savefig(svg, format="svg", metadata={"Date": None, "Creator": "footgen"})
-    FigureCanvasAgg(fig)
-    fig.savefig(png, format="png", dpi=150, metadata={"Software": "footgen"})
-    return svg.getvalue(), png.getvalue()
+    return figure_bytes(fig)
 
 
 def touchstone_text(prediction: Prediction) -> bytes:

@@ -356,17 +356,27 @@ def refine(spec: Spec, start: Sizing, model: str) -> Sizing:
     g = 1.0
     for attempt in range(REFINE_PASSES):
         x, g, at_limit = _refine_pass(spec, rm, h, x, pitch, first=attempt == 0)
-        if g < REFINE_GAMMA_TOL or not spec.style.fit:
+        if not spec.style.fit:
             break
-        # refit the meander for the arm this pass ended with (more room if it hit the limit)
-        grow = REFIT_LENGTH_FACTOR if at_limit else 1.0
+        # Refit the meander for the arm this pass ended with (for a longer one if the pass was
+        # stopped by the clearance); done when the fit agrees with the pitch the pass used, so
+        # that a spec giving this arm length explicitly builds the very same copper.
+        grow = REFIT_LENGTH_FACTOR if at_limit and g >= REFINE_GAMMA_TOL else 1.0
         try:
             new_pitch = generate_copper(spec, Sizing(x["length"] * grow, h, x["spacing"], "refit")).meander_pitch_mm
         except InfeasibleSpecError:
             break
         if new_pitch is None or (pitch is not None and abs(new_pitch - pitch) < CONVERGED_MM):
+            pitch = new_pitch
             break
         pitch = new_pitch
+    if spec.style.fit:
+        fresh = generate_copper(spec, Sizing(x["length"], h, x["spacing"], "check")).meander_pitch_mm
+        if pitch is not None and (fresh is None or abs(fresh - pitch) >= CONVERGED_MM):
+            pitch = None  # build what a spec with this arm length would build; re-evaluate below
+        if pitch is None:
+            z = complex(rm.zin_meshed(np.array([f0]), _Evaluator(spec, rm).ifa(x["length"], h, x["spacing"]), f0 * (1.0 + PREDICTION_HALF_SPAN))[0])
+            g = abs((z - MATCH_OHM) / (z + MATCH_OHM))
     s11_db = 20 * math.log10(max(g, 1e-6))
     notes = [f"refined with the {rm.label}: |S11| = {s11_db:.1f} dB at {f0 / 1e6:.2f} MHz (start: {start.method})"]
     if g > REFINE_REPORT_GAMMA:

@@ -11,7 +11,7 @@ from __future__ import annotations
 
 from shapely.geometry import box
 
-from footgen.geometry.layout import Layout, placement_matrix
+from footgen.geometry.layout import Layout, ground_x_range_mm, placement_matrix
 from footgen.spec import Spec
 
 #: Where the footprint origin (feed point) goes on the test board, KiCad mm.
@@ -46,8 +46,7 @@ def test_board_plan(spec: Spec, layout: Layout, *, library: str, footprint_file:
     # canonical-frame geometry, derived from the spec exactly as the layout was
     x0, _, x1, _ = _canonical_bounds(layout, spec)
     gp = spec.ground_plane
-    gcx = 0.5 * (x0 + x1) + gp.offset_mm
-    gx0, gx1 = gcx - gp.width_mm / 2, gcx + gp.width_mm / 2
+    gx0, gx1 = ground_x_range_mm(spec, layout.dims["feed_short_spacing_mm"])
     edge_y = spec.clearance.depth_mm + spec.clearance.edge_distance_mm
     outline = box(min(gx0, x0), -gp.length_mm, max(gx1, x1), edge_y)
     ground = box(gx0, -gp.length_mm, gx1, 0.0)

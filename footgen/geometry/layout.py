@@ -185,6 +185,7 @@ def generate_copper(spec: Spec, sizing: Sizing) -> IfaCopper:
             meander_height_mm=meander_depth_mm(spec, sizing.height_mm),
             meander_pitch_mm=spec.style.meander_pitch_mm if sizing.meander_pitch_mm is None else sizing.meander_pitch_mm,
         )
+    _check_ground_under_legs(spec, s)
     generator = get_generator(spec.style.kind)
     try:
         copper = generator(**params)
@@ -201,6 +202,30 @@ def generate_copper(spec: Spec, sizing: Sizing) -> IfaCopper:
             f"at most {fits:.2f} mm fits: widen the clearance or use style meandered",
         )
     return copper
+
+
+def ground_x_range_mm(spec: Spec, feed_short_spacing_mm: float) -> tuple[float, float]:
+    """x extent of the ground plane in the canonical frame (feed at x = 0)."""
+    box_x0 = -feed_short_spacing_mm - short_inset_mm(spec)
+    center = box_x0 + spec.clearance.width_mm / 2 + spec.ground_plane.offset_mm
+    return center - spec.ground_plane.width_mm / 2, center + spec.ground_plane.width_mm / 2
+
+
+def _check_ground_under_legs(spec: Spec, s: float) -> None:
+    """The short must land on the ground and the feed pad sit in it: refuse a ground plane that
+    does not reach under both."""
+    via_d = spec.short.via_drill_mm + 2 * spec.short.via_annular_ring_mm if spec.short.via_count else 0.0
+    need_lo = -s - max(spec.short.stub_width_mm, via_d) / 2 - spec.fab.min_clearance_mm
+    need_hi = spec.feed.pad_width_mm / 2 + spec.feed.port_gap_mm + spec.fab.min_clearance_mm
+    gx0, gx1 = ground_x_range_mm(spec, s)
+    if gx0 > need_lo + 1e-9 or gx1 < need_hi - 1e-9:
+        shift = (need_lo - gx0) if gx0 > need_lo else (need_hi - gx1)
+        raise InfeasibleSpecError(
+            "$.ground_plane.offset_mm" if spec.ground_plane.width_mm >= need_hi - need_lo else "$.ground_plane.width_mm",
+            spec.ground_plane.offset_mm if spec.ground_plane.width_mm >= need_hi - need_lo else spec.ground_plane.width_mm,
+            f"the ground plane must reach under the short and the feed (x {need_lo:.2f} to {need_hi:.2f} mm from the feed); "
+            f"move it by {shift:+.2f} mm (offset_mm) or widen it",
+        )
 
 
 _SPEC_PATHS = {
@@ -249,11 +274,10 @@ def canonical_layout(spec: Spec, sizing: Sizing) -> Layout:
     clearance_box = box(bx0, 0.0, bx1, cl.depth_mm)
     edge_y = cl.depth_mm + cl.edge_distance_mm
     board_edge = LineString([(bx0, edge_y), (bx1, edge_y)])
-    gp = spec.ground_plane
-    gcx = 0.5 * (bx0 + bx1) + gp.offset_mm
+    gx0, gx1 = ground_x_range_mm(spec, s)
     gap = feed.port_gap_mm
     notch = box(-pw / 2 - gap, -pl - gap, pw / 2 + gap, 0.0)
-    ground = box(gcx - gp.width_mm / 2, -gp.length_mm, gcx + gp.width_mm / 2, 0.0).difference(notch)
+    ground = box(gx0, -spec.ground_plane.length_mm, gx1, 0.0).difference(notch)
     keepouts = (
         KeepOut("antenna_clearance", clearance_box, no_tracks=True, no_vias=True, no_pour=True),
         # The notch only clears the pour beside the feed pad on its own layer; the inner and

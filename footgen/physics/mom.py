@@ -12,10 +12,9 @@ of Moments in Electromagnetics", 2nd ed. 2014, ch. 3 and 5):
 * Self and touching segment pairs: the static part ``1/R`` of the inner integral is integrated in
   closed form (linear weights), the remainder ``(exp(-jkR) - 1)/R`` and the outer integral by
   Gauss-Legendre quadrature on a cosine-graded mesh.  Close pairs use a product Gauss rule, far
-  pairs the segment-midpoint rule (its first-order error cancels within each triangle).  The far
-  tier's static part ``1/R`` is filled once in float64; its dynamic part ``(exp(-jkR) - 1)/R``
-  (bounded by ``k``) per frequency in float32, which keeps the scalar-potential differences exact
-  enough (a float32 ``exp(-jkR)/R`` would not: the Phi term is ~1/(kl)^2 larger than A).
+  pairs the segment-midpoint rule (its first-order error cancels within each triangle).
+* Assembly: node-function integrals per segment pair (midpoint rule, overwritten by the accurate
+  close-pair values), then one gather to basis level with static half-pair weights; all float64.
 * Solve: LAPACK via numpy (LU) or, for >= SYM_SOLVE_MIN_UNKNOWNS, scipy's complex-symmetric
   LDL^T (Z is symmetric by reciprocity and Galerkin testing).
 * Delta-gap source: applied field ``V / l`` on one segment; ``Zin = V / I(segment centre)``,
@@ -41,6 +40,7 @@ import math
 from collections.abc import Callable
 from concurrent.futures import Future, ThreadPoolExecutor
 from dataclasses import dataclass, field
+from functools import lru_cache
 
 import numpy as np
 import scipy.linalg
@@ -60,13 +60,14 @@ INNER_POINTS_SINGULAR = 6
 POINTS_NEAR = 4
 SLAB_IMAGE_REL_TOL = 1e-6
 SLAB_MAX_IMAGES = 400
+# image-potential table points: (u_max / n)^2 / 8 ~ 3e-6 relative for u_max ~ 10 (R / z_1 ~ 1e4)
+SLAB_TABLE_POINTS = 2048
+SLAB_TABLE_REL_TOL = 1e-5
 INTERP_PHASE_STEP_RAD = 1.0  # anchor spacing: (k_{i+1} - k_i) * max basis distance
 SOLVE_CHUNK = 16
 SWEEP_SOLVE_WORKERS = 2  # solver threads in sweeps (the machine target has 2 cores)
 SYM_SOLVE_MIN_UNKNOWNS = 500  # below this numpy's batched LU is as fast
 COPPER_CONDUCTIVITY_S_PER_M = 5.8e7
-FAR_REAL = np.float32  # far-tier (midpoint rule) precision; near and self terms are float64
-FAR_COMPLEX = np.complex64
 
 
 @dataclass(frozen=True)
@@ -111,16 +112,24 @@ class WireModel:
         return sum(w.n_segments for w in self.wires)
 
 
+@lru_cache(maxsize=None)
 def gauss_legendre_unit(n_points: int) -> tuple[np.ndarray, np.ndarray]:
     """Gauss-Legendre nodes and weights on [0, 1] (weights sum to 1)."""
     x, w = np.polynomial.legendre.leggauss(n_points)
-    return 0.5 * (x + 1.0), 0.5 * w
+    return _frozen(0.5 * (x + 1.0)), _frozen(0.5 * w)
 
 
+@lru_cache(maxsize=None)
 def cosine_graded_unit(n_points: int) -> tuple[np.ndarray, np.ndarray]:
     """Gauss-Legendre rule on [0, 1] mapped by ``s = (1 - cos(pi u)) / 2`` (nodes crowd both ends)."""
     u, w = gauss_legendre_unit(n_points)
-    return 0.5 * (1.0 - np.cos(np.pi * u)), w * 0.5 * np.pi * np.sin(np.pi * u)
+    return _frozen(0.5 * (1.0 - np.cos(np.pi * u))), _frozen(w * 0.5 * np.pi * np.sin(np.pi * u))
+
+
+def _frozen(a: np.ndarray) -> np.ndarray:
+    """Read-only array (cached quadrature rules are shared)."""
+    a.setflags(write=False)
+    return a
 
 
 def slab_static_image_weights(eps_r: complex, thickness_m: float) -> tuple[complex, np.ndarray, np.ndarray]:
@@ -139,6 +148,47 @@ def slab_static_image_weights(eps_r: complex, thickness_m: float) -> tuple[compl
     n = np.arange(1, n_max + 1)
     weights = (1.0 - k_refl) * (k_refl ** (2 * n) + k_refl ** (2 * n - 1))
     return complex(k_refl), weights.astype(complex), 2.0 * n * thickness_m
+
+
+def slab_image_potential(r_m: np.ndarray, weights: np.ndarray, depths_m: np.ndarray) -> np.ndarray:
+    """Image part of the slab's static potential, ``sum_n w_n / (4 pi sqrt(R^2 + z_n^2))`` (complex
+    weights from :func:`slab_static_image_weights`, summed in real arithmetic)."""
+    r2 = np.asarray(r_m, float) ** 2
+    re, im = np.zeros(r2.shape), np.zeros(r2.shape)
+    tmp = np.empty(r2.shape)
+    for w_n, z_n in zip(weights, depths_m):
+        np.add(r2, z_n * z_n, out=tmp)
+        np.sqrt(tmp, out=tmp)
+        np.reciprocal(tmp, out=tmp)
+        re += w_n.real * tmp
+        im += w_n.imag * tmp
+    return (re + 1j * im) * (1.0 / (4.0 * math.pi))
+
+
+class SlabImageTable:
+    """:func:`slab_image_potential` tabulated on a grid uniform in ``u = asinh(R / z_1)`` (``z_1``
+    the first image depth) and interpolated linearly: smooth in ``u`` at every scale, relative
+    error ~ ``(du)^2 / 8`` (below SLAB_TABLE_REL_TOL)."""
+
+    def __init__(self, weights: np.ndarray, depths_m: np.ndarray, r_max_m: float) -> None:
+        self.z1 = float(depths_m[0]) if depths_m.shape[0] else 1.0
+        u_max = math.asinh(r_max_m / self.z1) * (1.0 + 1e-9) + 1e-12
+        self.du = u_max / (SLAB_TABLE_POINTS - 1)
+        u = np.arange(SLAB_TABLE_POINTS + 1) * self.du  # one spare node: index + 1 stays in range
+        self.f = slab_image_potential(self.z1 * np.sinh(u), weights, depths_m)
+        self.slope = np.diff(self.f)
+
+    def __call__(self, r_m: np.ndarray) -> np.ndarray:
+        x = np.arcsinh(np.asarray(r_m, float) / self.z1)
+        x *= 1.0 / self.du
+        idx = x.astype(np.intp)
+        if idx.size and idx.max() >= SLAB_TABLE_POINTS:
+            raise SolverError("slab image table queried beyond its range; build it for the largest distance")
+        x -= idx
+        out = self.slope[idx]
+        out *= x
+        out += self.f[idx]
+        return out
 
 
 @dataclass
@@ -349,30 +399,26 @@ class MomSolver:
         if model.slab is not None and np.any(np.abs(np.concatenate([mesh.starts[:, 2], mesh.ends[:, 2]])) > NODE_MERGE_TOL_M):
             raise SolverError("laminate model needs all wires in the plane z = 0 (top face of the slab)")
         hb, hs, hl, hg = mesh.half_basis, mesh.half_seg, mesh.half_loc, mesh.half_sig
-        delta = np.where(hl == 1, 1.0, -1.0)
-        # far tier (midpoint rule): Z_far = sum over the 2 x 2 half combinations of static weights
-        # times the kernel between segment midpoints, gathered at basis level
+        # Assembly in two steps: segment-level integrals (node-function level for A, segment level
+        # for Phi: the divergence is constant on a half), then one gather to basis level summing
+        # the 2 x 2 half combinations of every basis pair with static weights.
         seg_h = hs.reshape(-1, 2)
-        w_half = (hg * mesh.lengths[hs] / 2.0).reshape(-1, 2)
-        c_half = (hg * delta).reshape(-1, 2)
-        # weights stored complex so the per-frequency products need no type conversion;
-        # A weights (w_i u_i).(w_j u_j) as one rank-3 product per half combination
-        moment = [w_half[:, i, None] * mesh.units[seg_h[:, i]] for i in range(2)]
-        self._w_far_a64 = [[moment[i] @ moment[j].T for j in range(2)] for i in range(2)]  # static pass
-        self._w_far_a = [[w.astype(FAR_COMPLEX) for w in row] for row in self._w_far_a64]
-        charge = [c_half[:, i].astype(FAR_COMPLEX) for i in range(2)]
-        self._w_far_phi = [[np.multiply.outer(charge[i], charge[j]) for j in range(2)] for i in range(2)]
-        self._far_take = [[(seg_h[:, i][:, None] * n_seg + seg_h[:, j][None, :]).astype(np.intp) for j in range(2)]
-                          for i in range(2)]
+        end_h = (2 * hs + hl).reshape(-1, 2)  # segment-end index: 2 * segment + local end
+        sig_h = hg.reshape(-1, 2).astype(float)
+        div_h = sig_h * half_divergence_sign(mesh, np.arange(hs.shape[0])).reshape(-1, 2) / mesh.lengths[seg_h]
+        dirs = [sig_h[:, i, None] * mesh.units[seg_h[:, i]] for i in range(2)]
+        self._w_a = [[dirs[i] @ dirs[j].T for j in range(2)] for i in range(2)]
+        self._w_phi = [[np.multiply.outer(div_h[:, i], div_h[:, j]) for j in range(2)] for i in range(2)]
+        end_h, seg_i = end_h.astype(np.intp), seg_h.astype(np.intp)
+        self._take_a = [[np.add.outer(end_h[:, i] * (2 * n_seg), end_h[:, j]) for j in range(2)] for i in range(2)]
+        self._take_phi = [[np.add.outer(seg_i[:, i] * n_seg, seg_i[:, j]) for j in range(2)] for i in range(2)]
         cen = mesh.centres
         sq = np.einsum("nd,nd->n", cen, cen)
         dist2 = np.maximum(sq[:, None] + sq[None, :] - 2.0 * cen @ cen.T, 0.0)
         a2 = 0.5 * (mesh.radii[:, None] ** 2 + mesh.radii[None, :] ** 2)
         self._r_mid = np.sqrt(dist2 + a2)
         self._inv_4pi_r_mid = 1.0 / (4.0 * math.pi * self._r_mid)
-        self._r_mid_far = self._r_mid.astype(FAR_REAL)
-        self._far_static: tuple[np.ndarray, np.ndarray] | None = None
-        self._inv_4pi_r_mid_far = self._inv_4pi_r_mid.astype(FAR_REAL)
+        self._lplq = np.multiply.outer(mesh.lengths, mesh.lengths)
         # pair tiers (p <= q)
         inc = sp.csr_matrix((np.ones(2 * n_seg), (np.repeat(np.arange(n_seg), 2), mesh.seg_nodes.reshape(-1))),
                             shape=(n_seg, mesh.node_xyz.shape[0]))
@@ -386,156 +432,116 @@ class MomSolver:
         near_p, near_q = np.nonzero(near_mask)
         self._sing = _PairIntegrals(mesh, sing_p, sing_q, singular=True)
         self._near = _PairIntegrals(mesh, near_p, near_q, singular=False)
-        self._pair_expansion = {
-            "sing": self._expand_pairs(sing_p, sing_q),
-            "near": self._expand_pairs(near_p, near_q),
-        }
         # source vector: applied field V/l on the source segment, V = 1
         on_src = hs == mesh.source_seg
         self._v = np.zeros(n_basis)
         np.add.at(self._v, hb[on_src], hg[on_src] * 0.5)
-        self._far_static = self._far(self._inv_4pi_r_mid)
-        self._slab_phi = self._slab_scalar_matrix() if model.slab is not None else None
-        self._loss_idx, self._loss_val = self._loss_pattern()
+        # frequency-independent slab (segment level) and conductor-loss (node level) parts; their
+        # basis-level forms are built only for interpolated sweeps
+        self._slab_kp = self._slab_segment_matrix() if model.slab is not None else None
+        self._loss_rc, self._loss_mass = self._loss_entries()
+        self._basis_parts: dict[str, object] = {}
 
     # -- assembly helpers -------------------------------------------------------------------
-    def _expand_pairs(self, p: np.ndarray, q: np.ndarray) -> dict:
-        """All (half on p) x (half on q) combinations of the pair list, both orders (p, q), (q, p)."""
-        mesh = self.mesh
-        order = np.argsort(mesh.half_seg, kind="stable")
-        hs_sorted = mesh.half_seg[order]
-        n_seg = mesh.lengths.shape[0]
-        ptr = np.searchsorted(hs_sorted, np.arange(n_seg + 1))
-        cnt = np.diff(ptr)
-        pair_ids, hp_list, hq_list = [], [], []
-        for pp, qq, swap in ((p, q, False), (q, p, True)):
-            sel = np.arange(p.shape[0])
-            if swap:
-                sel = sel[p != q]
-            pp, qq = pp[sel], qq[sel]
-            cp, cq = cnt[pp], cnt[qq]
-            tot = cp * cq
-            rep = np.repeat(np.arange(sel.shape[0]), tot)
-            off = np.arange(tot.sum()) - np.repeat(np.cumsum(tot) - tot, tot)
-            ip = off // cq[rep]
-            iq = off % cq[rep]
-            hp = order[ptr[pp[rep]] + ip]
-            hq = order[ptr[qq[rep]] + iq]
-            pair_ids.append(np.stack([sel[rep], np.full(rep.shape, int(swap))], axis=1))
-            hp_list.append(hp)
-            hq_list.append(hq)
-        pair = np.concatenate(pair_ids)
-        h_obs = np.concatenate(hp_list)
-        h_src = np.concatenate(hq_list)
-        # for swapped entries the stored pair integral is M_qp; we need M_pq[a,b] = M_qp[b,a]
-        swap = pair[:, 1] == 1
-        loc_first = np.where(swap, mesh.half_loc[h_src], mesh.half_loc[h_obs])
-        loc_second = np.where(swap, mesh.half_loc[h_obs], mesh.half_loc[h_src])
-        seg_o, seg_s = mesh.half_seg[h_obs], mesh.half_seg[h_src]
-        sig = mesh.half_sig[h_obs] * mesh.half_sig[h_src]
-        n_basis = mesh.n_basis
-        flat = mesh.half_basis[h_obs] * n_basis + mesh.half_basis[h_src]
-        uniq, inv = np.unique(flat, return_inverse=True)
-        return {
-            "uniq": uniq,
-            "inv": inv.reshape(-1),
-            "pair": pair[:, 0],
-            "loc1": loc_first,
-            "loc2": loc_second,
-            "w_a": sig * np.einsum("nd,nd->n", mesh.units[seg_o], mesh.units[seg_s]),
-            "w_phi": sig * half_divergence_sign(mesh, h_obs) * half_divergence_sign(mesh, h_src) / (mesh.lengths[seg_o] * mesh.lengths[seg_s]),
-            "mid": (seg_o, seg_s),
-            "flat": flat,
-        }
-
-    def _scatter(self, exp: dict, m_pairs: np.ndarray, g_mid: np.ndarray, weight_key: str,
-                 target: np.ndarray) -> np.ndarray:
-        """Add the pair corrections (accurate integral minus the midpoint-rule value already in the
-        far tier; ``g_mid`` is the midpoint kernel per expanded entry) to ``target``."""
-        vals = m_pairs[exp["pair"], exp["loc1"], exp["loc2"]] if weight_key == "w_a" else m_pairs.sum(axis=(1, 2))[exp["pair"]]
-        seg_o, seg_s = exp["mid"]
-        lp, lq = self.mesh.lengths[seg_o], self.mesh.lengths[seg_s]
-        vals = vals - g_mid * (lp * lq / 4.0 if weight_key == "w_a" else lp * lq)
-        vals = vals * exp[weight_key]
-        n_u = exp["uniq"].shape[0]
-        summed = np.bincount(exp["inv"], weights=vals.real, minlength=n_u) + 1j * np.bincount(
-            exp["inv"], weights=vals.imag, minlength=n_u
-        )
-        target.reshape(-1)[exp["uniq"]] += summed
-        return target
-
-    def _far_dynamic_kernel(self, k_rad_per_m: float) -> np.ndarray:
-        """``(exp(-jkR) - 1)/(4 pi R)`` between segment midpoints, in the far-tier precision.
-
-        Written as ``(-2 sin^2(kR/2) - j sin(kR)) / (4 pi R)`` so that single precision keeps its
-        relative accuracy; the static part ``1/(4 pi R)`` is filled once in double precision (the
-        scalar-potential matrix is dominated by differences of it).
-        """
-        half = self._r_mid_far * FAR_REAL(0.5 * k_rad_per_m)
-        g = np.empty(half.shape, FAR_COMPLEX)
-        s_half = np.sin(half)
-        np.multiply(s_half, s_half, out=g.real)
-        g.real *= FAR_REAL(-2.0)
-        half *= FAR_REAL(2.0)
-        np.sin(half, out=g.imag)
-        np.negative(g.imag, out=g.imag)
-        g *= self._inv_4pi_r_mid_far
-        return g
-
-    def _far(self, g_mid: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-        """Midpoint-rule ``A`` and ``Phi`` for all pairs from the segment-midpoint kernel ``g_mid``
-        (accumulated in the precision of ``g_mid``)."""
+    def _gather(self, seg_matrix: np.ndarray, takes: list[list[np.ndarray]], weights: list[list[np.ndarray]]) -> np.ndarray:
+        """Basis-level matrix ``sum_ij weights[i][j] * seg_matrix[takes[i][j]]`` over the half pairs."""
+        flat = seg_matrix.reshape(-1)
         n_b = self.mesh.n_basis
-        flat = g_mid.reshape(-1)
-        real = not np.iscomplexobj(g_mid)
-        a_mat = np.empty((n_b, n_b), g_mid.dtype)
-        phi_mat = np.empty_like(a_mat)
-        gij = np.empty_like(a_mat)
-        tmp = np.empty_like(a_mat)
+        out = np.empty((n_b, n_b), flat.dtype)
+        tmp = np.empty_like(out)
         for i in range(2):
             for j in range(2):
-                np.take(flat, self._far_take[i][j], out=gij)
-                w_a, w_phi = self._w_far_a[i][j], self._w_far_phi[i][j]
-                if real:
-                    w_a, w_phi = self._w_far_a64[i][j], w_phi.real
                 if i == 0 and j == 0:
-                    np.multiply(w_a, gij, out=a_mat)
-                    np.multiply(w_phi, gij, out=phi_mat)
+                    np.take(flat, takes[0][0], out=out)
+                    out *= weights[0][0]
                 else:
-                    a_mat += np.multiply(w_a, gij, out=tmp)
-                    phi_mat += np.multiply(w_phi, gij, out=tmp)
-        return a_mat, phi_mat
+                    np.take(flat, takes[i][j], out=tmp)
+                    tmp *= weights[i][j]
+                    out += tmp
+        return out
 
-    def _slab_scalar_matrix(self) -> np.ndarray:
-        """Frequency-independent slab part of the scalar-potential matrix (basis level)."""
+    def _segment_matrices(self, g_mid: np.ndarray, pair_values: tuple[np.ndarray | None, np.ndarray | None],
+                          with_a: bool = True) -> tuple[np.ndarray | None, np.ndarray]:
+        """Node-function-level ``A`` integrals (2 N x 2 N, index ``2 seg + end``) and segment-level
+        ``Phi`` integrals (N x N): the midpoint rule ``g_mid`` everywhere, the accurate 2 x 2 pair
+        integrals of the singular and near tiers (``pair_values``, in that order) written over it."""
+        n_seg = self.mesh.lengths.shape[0]
+        kp = g_mid * self._lplq
+        ka = None
+        if with_a:
+            ka = np.empty((n_seg, 2, n_seg, 2), kp.dtype)
+            ka[...] = (0.25 * kp)[:, None, :, None]
+            ka = ka.reshape(2 * n_seg, 2 * n_seg)
+        for pairs, m in zip((self._sing, self._near), pair_values):
+            if m is None or pairs.p.shape[0] == 0:
+                continue
+            p, q = pairs.p, pairs.q
+            total = m.sum(axis=(1, 2))
+            kp[p, q] = total
+            kp[q, p] = total
+            if with_a:
+                for a in range(2):
+                    for b in range(2):
+                        ka[2 * p + a, 2 * q + b] = m[:, a, b]
+                        ka[2 * q + b, 2 * p + a] = m[:, a, b]
+        return ka, kp
+
+    def _midpoint_kernel(self, k_rad_per_m: float) -> np.ndarray:
+        """``exp(-jkR)/(4 pi R)`` between segment midpoints (reduced-kernel distance)."""
+        kr = self._r_mid * k_rad_per_m
+        g = np.empty(kr.shape, complex)
+        np.cos(kr, out=g.real)
+        np.sin(kr, out=g.imag)
+        np.negative(g.imag, out=g.imag)
+        g *= self._inv_4pi_r_mid
+        return g
+
+    def _slab_segment_matrix(self) -> np.ndarray:
+        """Frequency-independent slab part of the scalar-potential integrals (segment level)."""
         slab = self.model.slab
         k_refl, weights, depths = slab_static_image_weights(slab.eps_complex, slab.thickness_m)
 
-        def images(r: np.ndarray) -> np.ndarray:
-            out = np.zeros(r.shape, complex)
-            r2 = r**2
-            for w_n, z_n in zip(weights, depths):
-                out += w_n / np.sqrt(r2 + z_n**2)
-            return out / (4.0 * math.pi)
+        images = SlabImageTable(weights, depths, float(self._r_mid.max()))
 
         kern_mid = images(self._r_mid) - k_refl * self._inv_4pi_r_mid
-        _, phi = self._far(kern_mid)
-        for name, pairs in (("sing", self._sing), ("near", self._near)):
-            m = pairs.smooth_kernel(images) - k_refl * pairs.static
-            seg_o, seg_s = self._pair_expansion[name]["mid"]
-            phi = self._scatter(self._pair_expansion[name], m, kern_mid[seg_o, seg_s], "w_phi", phi)
-        return phi
+        pair_values = tuple(pairs.smooth_kernel(images) - k_refl * pairs.static for pairs in (self._sing, self._near))
+        _, kp = self._segment_matrices(kern_mid, pair_values, with_a=False)
+        return kp
 
-    def _loss_pattern(self) -> tuple[np.ndarray, np.ndarray]:
-        """Sparse pattern of ``int f_m . f_n dl / perimeter`` over lossy segments."""
+    def _loss_entries(self) -> tuple[tuple[np.ndarray, np.ndarray], np.ndarray]:
+        """Node-level entries ``(rows, cols), values`` of ``int phi_a phi_b dl / perimeter`` on lossy
+        segments (linear node functions: l/3 on the diagonal, l/6 off it)."""
         mesh = self.mesh
-        exp = self._pair_expansion["sing"]
-        seg_o, seg_s = exp["mid"]
-        same = (seg_o == seg_s) & (mesh.perimeters[seg_o] > 0.0)
-        mass = np.where(exp["loc1"][same] == exp["loc2"][same], 1.0 / 3.0, 1.0 / 6.0)
-        vals = exp["w_a"][same] * mass * mesh.lengths[seg_o[same]] / np.where(same, mesh.perimeters[seg_o], 1.0)[same]
-        idx, inv = np.unique(exp["flat"][same], return_inverse=True)
-        return idx, np.bincount(inv.reshape(-1), weights=vals, minlength=idx.shape[0])
+        lossy = np.nonzero(mesh.perimeters > 0.0)[0]
+        scale = mesh.lengths[lossy] / mesh.perimeters[lossy]
+        rows, cols, vals = [], [], []
+        for a in range(2):
+            for b in range(2):
+                rows.append(2 * lossy + a)
+                cols.append(2 * lossy + b)
+                vals.append(scale * (1.0 / 3.0 if a == b else 1.0 / 6.0))
+        return (np.concatenate(rows), np.concatenate(cols)), np.concatenate(vals)
+
+    @property
+    def _slab_phi(self) -> np.ndarray | None:
+        """Basis-level slab part of the scalar-potential matrix (for interpolated sweeps)."""
+        if self._slab_kp is None:
+            return None
+        if "slab" not in self._basis_parts:
+            self._basis_parts["slab"] = self._gather(self._slab_kp, self._take_phi, self._w_phi)
+        return self._basis_parts["slab"]
+
+    @property
+    def _loss_pattern(self) -> tuple[np.ndarray, np.ndarray]:
+        """Sparse basis-level pattern ``(flat indices, values)`` of the conductor-loss matrix."""
+        if "loss" not in self._basis_parts:
+            n_seg = self.mesh.lengths.shape[0]
+            ka = np.zeros((2 * n_seg, 2 * n_seg))
+            ka[self._loss_rc] += self._loss_mass
+            dense = self._gather(ka, self._take_a, self._w_a).reshape(-1)
+            idx = np.nonzero(dense)[0]
+            self._basis_parts["loss"] = (idx, dense[idx])
+        return self._basis_parts["loss"]
 
     def surface_resistance_ohm(self, freq_hz: float) -> float:
         """Skin-effect surface resistance ``sqrt(w mu0 / (2 sigma))`` (Balanis 4th ed. sec. 2.14)."""
@@ -545,35 +551,25 @@ class MomSolver:
     def potential_matrices(self, freq_hz: float) -> tuple[np.ndarray, np.ndarray]:
         """Basis-level vector- and scalar-potential matrices ``A``, ``Phi`` (free-space kernel)."""
         k = 2.0 * math.pi * freq_hz / C0_M_PER_S
-        g_dyn = self._far_dynamic_kernel(k)
-        a_dyn, phi_dyn = self._far(g_dyn)
-        a_mat = a_dyn + self._far_static[0]
-        phi_mat = phi_dyn + self._far_static[1]
-        for name, pairs in (("sing", self._sing), ("near", self._near)):
-            m = pairs.full(k)
-            exp = self._pair_expansion[name]
-            seg_o, seg_s = exp["mid"]
-            g_mid = g_dyn[seg_o, seg_s] + self._inv_4pi_r_mid[seg_o, seg_s]
-            self._scatter(exp, m, g_mid, "w_a", a_mat)
-            self._scatter(exp, m, g_mid, "w_phi", phi_mat)
-        return a_mat, phi_mat
-
-    def _combine(self, freq_hz: float, a_mat: np.ndarray, phi_mat: np.ndarray) -> np.ndarray:
-        """``Z = j w mu0 A + (Phi + Phi_slab)/(j w eps0) + Z_loss`` (overwrites ``a_mat``, ``phi_mat``)."""
-        omega = 2.0 * math.pi * freq_hz
-        if self._slab_phi is not None:
-            phi_mat += self._slab_phi
-        phi_mat *= 1.0 / (1j * omega * EPS0_F_PER_M)
-        a_mat *= 1j * omega * MU0_H_PER_M
-        a_mat += phi_mat
-        z = a_mat
-        if self._loss_idx.shape[0]:
-            z.reshape(-1)[self._loss_idx] += (1.0 + 1j) * self.surface_resistance_ohm(freq_hz) * self._loss_val
-        return z
+        ka, kp = self._segment_matrices(self._midpoint_kernel(k), (self._sing.full(k), self._near.full(k)))
+        return self._gather(ka, self._take_a, self._w_a), self._gather(kp, self._take_phi, self._w_phi)
 
     def impedance_matrix(self, freq_hz: float) -> np.ndarray:
-        """Full Galerkin impedance matrix (ohm) at one frequency."""
-        return self._combine(freq_hz, *self.potential_matrices(freq_hz))
+        """Full Galerkin impedance matrix (ohm) at one frequency:
+        ``Z = j w mu0 A + (Phi + Phi_slab)/(j w eps0) + Z_loss``, combined at segment level so that
+        only two gathers to basis level are needed."""
+        omega = 2.0 * math.pi * freq_hz
+        k = omega / C0_M_PER_S
+        ka, kp = self._segment_matrices(self._midpoint_kernel(k), (self._sing.full(k), self._near.full(k)))
+        if self._slab_kp is not None:
+            kp += self._slab_kp
+        kp *= 1.0 / (1j * omega * EPS0_F_PER_M)
+        ka *= 1j * omega * MU0_H_PER_M
+        if self._loss_mass.shape[0]:
+            ka[self._loss_rc] += (1.0 + 1j) * self.surface_resistance_ohm(freq_hz) * self._loss_mass
+        z = self._gather(ka, self._take_a, self._w_a)
+        z += self._gather(kp, self._take_phi, self._w_phi)
+        return z
 
     def zin_ohm(self, freq_hz: float) -> complex:
         """Input impedance at the delta-gap source (full fill and LAPACK solve)."""
@@ -673,6 +669,7 @@ class MomSolver:
         step = np.exp(-1j * dk[0] * dist).reshape(-1) if uniform else None
         phase = np.exp(-1j * k_all[0] * dist).reshape(-1)
         slab = self._slab_phi.reshape(-1) if self._slab_phi is not None else None
+        loss_idx, loss_val = self._loss_pattern
         out = np.empty(freqs.shape[0], complex)
         v = self._v.astype(complex)
 
@@ -710,8 +707,8 @@ class MomSolver:
                     zj *= phase
                     if slab is not None:
                         zaxpy(slab, zj, a=-1j * ETA0_OHM / x)
-                    if self._loss_idx.shape[0]:
-                        zj[self._loss_idx] += (1.0 + 1j) * self.surface_resistance_ohm(float(freqs[i])) * self._loss_val
+                    if loss_idx.shape[0]:
+                        zj[loss_idx] += (1.0 + 1j) * self.surface_resistance_ohm(float(freqs[i])) * loss_val
                 pending.append((start, stop, pool.submit(solve_batch, z_batch)))
                 while len(pending) > SWEEP_SOLVE_WORKERS or (pending and stop == freqs.shape[0]):
                     first, last, fut = pending.pop(0)

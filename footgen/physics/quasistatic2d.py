@@ -14,6 +14,11 @@ cell size (Richardson, two grids, first-order error from the edge singularities)
 ``Z0 = 1 / (c sqrt(C C_air))`` (quasi-TEM; e.g. Collin, "Foundations for Microwave
 Engineering", 2nd ed. 1992, sec. 3.10 (from memory)).
 
+Measured accuracy (tests/test_quasistatic2d.py): capacitances in air within 0.4 % of the exact
+conformal mappings (the grading leaves a residual the two-grid extrapolation does not remove);
+eps_eff moves by under 0.2 % on a much finer grid; about a second per cross-section on one
+core.
+
 Numbers in, numbers out: each public function is pure and memoised on its float arguments.
 Estimates never replace measurement; radio products must meet local radio regulations and
 RF-exposure limits.

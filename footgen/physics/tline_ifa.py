@@ -219,7 +219,15 @@ def meander_inductance_factors(ifa: PrintedIfa) -> tuple[float, ...]:
     adjacent folds cancel part of each other's flux, so a meander is electrically shorter than
     its centreline; capacitive coupling between folds is ignored.
     """
-    segments = list(zip(ifa.arm_path_m, ifa.arm_path_m[1:]))
+    return _fold_factors(tuple(map(tuple, ifa.arm_path_m)), float(ifa.trace_width_m))
+
+
+@functools.lru_cache(maxsize=LINE_CACHE_SIZE)
+def _fold_factors(
+    arm_path_m: tuple[tuple[float, float], ...], trace_width_m: float
+) -> tuple[float, ...]:
+    """:func:`meander_inductance_factors` memoised on the arm path and width (pure)."""
+    segments = list(zip(arm_path_m, arm_path_m[1:]))
     vertical = [
         (x0, min(y0, y1), max(y0, y1), math.copysign(1.0, y1 - y0))
         if abs(x1 - x0) <= LENGTH_EPS_M and abs(y1 - y0) > LENGTH_EPS_M
@@ -232,7 +240,7 @@ def meander_inductance_factors(ifa: PrintedIfa) -> tuple[float, ...]:
             factors.append(1.0)
             continue
         x_k, lo_k, hi_k, dir_k = seg
-        self_h = strip_partial_inductance_h(hi_k - lo_k, ifa.trace_width_m)
+        self_h = strip_partial_inductance_h(hi_k - lo_k, trace_width_m)
         coupled = 0.0
         for j, other in enumerate(vertical):
             if other is None or j == k or abs(other[0] - x_k) <= LENGTH_EPS_M:
@@ -523,37 +531,38 @@ def transform_impedance(z_load: NDArray, z0_ohm: float, gamma: NDArray, length_m
     return z0_ohm * (z_load + z0_ohm * t) / (z0_ohm + z_load * t)
 
 
-def _chain_abcd(freq_hz: NDArray, ifa: PrintedIfa, sections, options) -> NDArray:
-    """ABCD matrix, shape ``(len(freq_hz), 2, 2)``, of ``sections`` in cascade, the first one at
-    the input: the product of the line matrices ``[[cosh gl, Z0 sinh gl], [sinh gl / Z0,
-    cosh gl]]`` (Pozar, "Microwave Engineering", 4th ed. 2012, table 4.1 (from memory)),
-    multiplied pairwise (log2 of the section count matrix products, not one per section)."""
+def _chain_abcd(freq_hz: NDArray, ifa: PrintedIfa, sections, options):
+    """ABCD parameters ``(A, B, C, D)``, each of shape ``(len(freq_hz),)``, of ``sections`` in
+    cascade, the first one at the input: the product of the line matrices
+    ``[[cosh gl, Z0 sinh gl], [sinh gl / Z0, cosh gl]]`` (Pozar, "Microwave Engineering",
+    4th ed. 2012, table 4.1 (from memory)), multiplied pairwise (log2 of the section count
+    rounds of elementwise 2 x 2 products)."""
     gl = _electrical_lengths(freq_hz, sections, ifa, options)
     z0 = np.array([s.z0_ohm for s in sections])
-    ch, sh = np.cosh(gl), np.sinh(gl)
-    m = np.empty(gl.shape + (2, 2), dtype=complex)
-    m[..., 0, 0] = ch
-    m[..., 0, 1] = z0 * sh
-    m[..., 1, 0] = sh / z0
-    m[..., 1, 1] = ch
-    while m.shape[1] > 1:
-        if m.shape[1] % 2:
-            m = np.concatenate([m, np.broadcast_to(np.eye(2), (m.shape[0], 1, 2, 2))], axis=1)
-        m = m[:, 0::2] @ m[:, 1::2]
-    return m[:, 0]
+    grow = np.exp(gl)
+    decay = 1.0 / grow
+    ch, sh = 0.5 * (grow + decay), 0.5 * (grow - decay)
+    a, b, c, d = ch, z0 * sh, sh / z0, ch
+    while a.shape[1] > 1:
+        if a.shape[1] % 2:  # pad with a unit matrix
+            one, zero = np.ones((a.shape[0], 1)), np.zeros((a.shape[0], 1))
+            a, b, c, d = (np.hstack([m, p]) for m, p in ((a, one), (b, zero), (c, zero), (d, one)))
+        a1, b1, c1, d1 = a[:, 0::2], b[:, 0::2], c[:, 0::2], d[:, 0::2]
+        a2, b2, c2, d2 = a[:, 1::2], b[:, 1::2], c[:, 1::2], d[:, 1::2]
+        a, b, c, d = a1 * a2 + b1 * c2, a1 * b2 + b1 * d2, c1 * a2 + d1 * c2, c1 * b2 + d1 * d2
+    return a[:, 0], b[:, 0], c[:, 0], d[:, 0]
 
 
 def _short_side_abcd(freq_hz: NDArray, ifa: PrintedIfa, sections, options):
-    """ABCD matrix (per frequency) of the short side, from the tap to the short end."""
-    m = _chain_abcd(freq_hz, ifa, sections[::-1], options)  # tap side first
-    return m[:, 0, 0], m[:, 0, 1], m[:, 1, 0], m[:, 1, 1]
+    """ABCD parameters (per frequency) of the short side, from the tap to the short end."""
+    return _chain_abcd(freq_hz, ifa, sections[::-1], options)  # tap side first
 
 
 def _open_side_admittance(freq_hz: NDArray, ifa: PrintedIfa, sections, options) -> NDArray:
     """Admittance of the open side seen from the tap: with the open end's current zero,
     ``V_tap = A V_end`` and ``I_tap = C V_end``, so ``Y = C / A``."""
-    m = _chain_abcd(freq_hz, ifa, sections, options)
-    return m[:, 1, 0] / m[:, 0, 0]
+    a, _, c, _ = _chain_abcd(freq_hz, ifa, sections, options)
+    return c / a
 
 
 @dataclass(frozen=True)
@@ -674,10 +683,9 @@ def resonance_tline_ifa_hz(ifa: PrintedIfa, options: TlineIfaOptions = DEFAULT_O
     )
 
 
-def _search_grid(ifa: PrintedIfa, options: TlineIfaOptions, points: int) -> NDArray[np.float64]:
+def _search_grid(f_pole_hz: float, points: int) -> NDArray[np.float64]:
     """Frequencies over the resonance search window around the model's pole."""
-    f_res = resonance_tline_ifa_hz(ifa, options)
-    return np.linspace(RESONANCE_SEARCH_LOW * f_res, RESONANCE_SEARCH_HIGH * f_res, points)
+    return np.linspace(RESONANCE_SEARCH_LOW * f_pole_hz, RESONANCE_SEARCH_HIGH * f_pole_hz, points)
 
 
 def min_s11_frequency_tline_ifa_hz(
@@ -690,7 +698,7 @@ def min_s11_frequency_tline_ifa_hz(
     resonance search window: the definition of resonance used by the full-wave reference results
     (tests/fullwave).  Best of ``points`` samples, refined by bounded Brent minimisation between
     its neighbours."""
-    f = _search_grid(ifa, options, points)
+    f = _search_grid(resonance_tline_ifa_hz(ifa, options), points)
     mag = np.abs(s11_tline_ifa(f, ifa, z_ref_ohm, options))
     i = int(np.argmin(mag))
     lo, hi = f[max(i - 1, 0)], f[min(i + 1, points - 1)]
@@ -713,7 +721,7 @@ def im_zin_zero_nearest_pole_hz(
     (:func:`resonance_tline_ifa_hz`): the other resonance marker of the full-wave results.
     Raises :class:`SolverError` when losses leave no crossing in the search window."""
     f_pole = resonance_tline_ifa_hz(ifa, options)
-    f = _search_grid(ifa, options, points)
+    f = _search_grid(f_pole, points)
     x = np.imag(zin_tline_ifa(f, ifa, options))
     crossings = np.nonzero(np.sign(x[:-1]) * np.sign(x[1:]) < 0.0)[0]
     if crossings.size == 0:

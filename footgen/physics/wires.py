@@ -23,7 +23,7 @@ import numpy as np
 from footgen.constants import C0_M_PER_S
 from footgen.errors import SolverError
 from footgen.physics.ifa import PrintedIfa
-from footgen.physics.mom import Slab, Wire, WireModel
+from footgen.physics.mom import MIN_SEGMENT_TO_RADIUS, Slab, Wire, WireModel
 
 STRIP_EQUIVALENT_RADIUS_FACTOR = 0.25  # a = w / 4, Balanis 4th ed. ch. 9 (from memory)
 SEGMENTS_PER_WAVELENGTH = 40.0  # segment <= lambda / 40 (stricter than the lambda / 20 rule)
@@ -37,6 +37,16 @@ MIN_SEGMENT_TO_GRID_RADIUS = 4.0  # grid-wire radius capped at segment length / 
 # approach the radius (we saw ~1 % resonance drift at 2.5 radii); common practice, no source
 MIN_SEGMENT_TO_TRACE_RADIUS = 4.0
 GEOMETRY_TOL_M = 1e-9
+# A piece too short for its trace radius (a port gap, a short tail, a leg stub under a wide trace)
+# is one segment with its radius capped just inside the solver's thin-wire limit: a short fat
+# piece is mostly a corner and its self-inductance changes little (keeps the model solvable).
+SHORT_PIECE_RADIUS_MARGIN = 1.05
+# Arm vertices (and the feed junction) closer than this are merged: no printed feature is this
+# small, and a sub-micron piece would only spoil the conditioning of the matrix.
+VERTEX_MERGE_M = 1e-6
+# The delta-gap source spans the port gap above the ground edge, at most this fraction of the
+# height of the arm above the feed (a gap reaching the arm would leave no feed leg).
+SOURCE_MAX_HEIGHT_FRACTION = 0.5
 
 
 @dataclass(frozen=True)
@@ -81,10 +91,16 @@ def _n_segments(length_m: float, max_segment_m: float) -> int:
     return max(1, int(math.ceil(length_m / max_segment_m - 1e-9)))
 
 
+def solvable_radius_m(segment_m: float, radius_m: float) -> float:
+    """``radius_m``, capped so that ``segment_m`` stays inside the solver's length/radius limit."""
+    return min(radius_m, segment_m / (MIN_SEGMENT_TO_RADIUS * SHORT_PIECE_RADIUS_MARGIN))
+
+
 def _straight(p0: tuple[float, float], p1: tuple[float, float], max_seg_m: float, radius_m: float,
               perimeter_m: float = 0.0) -> Wire:
     length = math.hypot(p1[0] - p0[0], p1[1] - p0[1])
-    return Wire((p0[0], p0[1], 0.0), (p1[0], p1[1], 0.0), _n_segments(length, max_seg_m), radius_m, perimeter_m)
+    n = _n_segments(length, max_seg_m)
+    return Wire((p0[0], p0[1], 0.0), (p1[0], p1[1], 0.0), n, solvable_radius_m(length / n, radius_m), perimeter_m)
 
 
 def arm_point_above_x(ifa: PrintedIfa, x_m: float) -> tuple[int, float]:
@@ -101,10 +117,23 @@ def _arm_polyline_with_feed(ifa: PrintedIfa) -> tuple[list[tuple[float, float]],
     piece, y_arm = arm_point_above_x(ifa, ifa.feed_x_m)
     junction = (ifa.feed_x_m, y_arm)
     pts = [tuple(p) for p in ifa.arm_path_m]
-    a, b = pts[piece], pts[piece + 1]
-    if math.dist(a, junction) < GEOMETRY_TOL_M or math.dist(b, junction) < GEOMETRY_TOL_M:
-        return pts, junction
-    return pts[: piece + 1] + [junction] + pts[piece + 1 :], junction
+    for end in (piece, piece + 1):
+        if math.dist(pts[end], junction) < VERTEX_MERGE_M:
+            pts[end] = junction  # the junction is (or replaces) an arm vertex
+            return _merge_close_vertices(pts, junction), junction
+    return _merge_close_vertices(pts[: piece + 1] + [junction] + pts[piece + 1 :], junction), junction
+
+
+def _merge_close_vertices(pts: list[tuple[float, float]], keep: tuple[float, float]) -> list[tuple[float, float]]:
+    """Drop vertices closer than ``VERTEX_MERGE_M`` to the previous kept one (never ``keep``, the
+    feed junction, nor the first vertex above the short leg; a dropped last vertex moves the end)."""
+    out = [pts[0]]
+    for p in pts[1:]:
+        if math.dist(p, out[-1]) >= VERTEX_MERGE_M:
+            out.append(p)
+        elif p == keep and len(out) > 1:
+            out[-1] = p
+    return out
 
 
 def _graded_lines(start_m: float, stop_m: float, fine_m: float, pitch_m: float) -> list[float]:
@@ -137,11 +166,20 @@ def ground_grid_wires(ifa: PrintedIfa, control: MeshControl, detail_m: float) ->
     arm_x = [p[0] for p in ifa.arm_path_m] + [ifa.feed_x_m, ifa.short_x_m]
     x_lo, x_hi = max(g.x_min_m, min(arm_x)), min(g.x_max_m, max(arm_x))
     uniform = [g.x_min_m + i * g.width_m / max(1, math.ceil(g.width_m / pitch)) for i in range(int(math.ceil(g.width_m / pitch)) + 1)]
-    required = [g.x_min_m, g.x_max_m, ifa.feed_x_m, ifa.short_x_m]
-    for name, x in (("feed_x_m", ifa.feed_x_m), ("short_x_m", ifa.short_x_m)):
-        if not (g.x_min_m - GEOMETRY_TOL_M <= x <= g.x_max_m + GEOMETRY_TOL_M):
+    legs = (("feed_x_m", ifa.feed_x_m, ifa.trace_width_m), ("short_x_m", ifa.short_x_m, ifa.short_width_m))
+    for name, x, width in legs:
+        if not (g.x_min_m - 0.5 * width - GEOMETRY_TOL_M <= x <= g.x_max_m + 0.5 * width + GEOMETRY_TOL_M):
             raise SolverError(f"{name} = {x!r}: the leg must land on the ground edge "
                               f"({g.x_min_m!r} .. {g.x_max_m!r} m)")
+    # a ground corner within half a leg width of a leg moves onto the leg (the leg's copper
+    # reaches it anyway), so no grid wire is shorter than that
+    ends = [min(g.x_min_m, *(x for _, x, _ in legs)), max(g.x_max_m, *(x for _, x, _ in legs))]
+    for i, end in enumerate(ends):
+        for _, x, width in legs:
+            if abs(end - x) < 0.5 * width:
+                ends[i] = x
+    uniform = [u for u in uniform if ends[0] < u < ends[1]]
+    required = ends + [ifa.feed_x_m, ifa.short_x_m]
     xs = _merge_required(uniform, required, 0.5 * fine)
     wires: list[Wire] = []
     # horizontal wires (along x) on every row, split at every column
@@ -163,9 +201,10 @@ def ground_grid_wires(ifa: PrintedIfa, control: MeshControl, detail_m: float) ->
 
 def antenna_wires(ifa: PrintedIfa, control: MeshControl) -> tuple[list[Wire], float]:
     """Source, feed leg, short leg and arm wires; returns ``(wires, detail_m)`` with the source first."""
-    if ifa.port_gap_m <= 0.0 or ifa.port_gap_m >= ifa.height_m:
-        raise SolverError(f"port_gap_m = {ifa.port_gap_m!r}: must lie between 0 and the arm height")
+    if not (ifa.port_gap_m > 0.0):
+        raise SolverError(f"port_gap_m = {ifa.port_gap_m!r}: must be a positive gap")
     arm, junction = _arm_polyline_with_feed(ifa)
+    gap = min(ifa.port_gap_m, SOURCE_MAX_HEIGHT_FRACTION * junction[1])
     a_trace = strip_equivalent_radius_m(ifa.trace_width_m)
     a_short = strip_equivalent_radius_m(ifa.short_width_m)
     detail = min(control.max_segment_m,
@@ -175,8 +214,8 @@ def antenna_wires(ifa: PrintedIfa, control: MeshControl) -> tuple[list[Wire], fl
     per_trace = 2.0 * (ifa.trace_width_m + t_cu)
     per_short = 2.0 * (ifa.short_width_m + t_cu)
     wires = [
-        Wire((ifa.feed_x_m, 0.0, 0.0), (ifa.feed_x_m, ifa.port_gap_m, 0.0), 1, a_trace, per_trace),
-        _straight((ifa.feed_x_m, ifa.port_gap_m), junction, detail, a_trace, per_trace),
+        Wire((ifa.feed_x_m, 0.0, 0.0), (ifa.feed_x_m, gap, 0.0), 1, solvable_radius_m(gap, a_trace), per_trace),
+        _straight((ifa.feed_x_m, gap), junction, detail, a_trace, per_trace),
         _straight((ifa.short_x_m, 0.0), arm[0], detail, a_short, per_short),
     ]
     for p0, p1 in zip(arm, arm[1:]):

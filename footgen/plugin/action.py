@@ -267,6 +267,13 @@ def outcome_text(outcome: placement.Outcome) -> str:
     return "\n".join(lines)
 
 
+def _read_or_none(path: Path) -> dict | None:
+    try:
+        return cli_runner.read_spec(path)
+    except cli_runner.FootgenFailed:
+        return None
+
+
 def run_action(board) -> None:
     """Everything the toolbar button does."""
     wx = _wx()
@@ -290,6 +297,10 @@ def run_action(board) -> None:
         return
     spec, where, nets = chosen
     spec_path = project / placement.WORK_DIR_NAME / f"{spec['name']}.json"
+    if spec_path.exists() and _read_or_none(spec_path) != spec:
+        answer = wx.MessageBox(f"{spec_path} exists with other values. Replace it?", PLUGIN_NAME, wx.YES_NO | wx.NO_DEFAULT | wx.ICON_QUESTION, parent)
+        if answer != wx.YES:
+            return
     cli_runner.write_spec(spec, spec_path)
     kwargs = dict(placement=where, reference=where.reference, rf_net=nets["rf_net"], gnd_net=nets["gnd_net"], cmd=cmd, project_dir=project)
     try:
