@@ -25,7 +25,7 @@ from footgen.physics.lines import eps_eff_strip_beside_ground_edge
 from footgen.physics import predict
 from footgen.physics.mom import MomSolver
 from footgen.physics.wires import ifa_wire_model
-from footgen.physics.tline_ifa import resonance_tline_ifa_hz, zin_tline_ifa
+from footgen.physics.tline_ifa import quarter_wave_estimate_hz, resonance_tline_ifa_hz, zin_tline_ifa
 from footgen.constants import C0_M_PER_S
 from footgen.spec import Spec
 
@@ -58,20 +58,32 @@ class ResponseModel:
     resonance_hz: Callable[[PrintedIfa], float]
     #: zin_ohm(freq_hz, ifa, progress=None); progress(done, total) is optional
     zin_ohm: Callable[..., np.ndarray]
-    #: zin_meshed(freq_hz, ifa, mesh_hz): Zin with the discretisation a sweep up to mesh_hz uses
-    zin_meshed: Callable[[np.ndarray, PrintedIfa, float], np.ndarray]
 
 
-def _mom_zin_meshed(freq_hz: np.ndarray, ifa: PrintedIfa, mesh_hz: float) -> np.ndarray:
-    """MoM Zin on the wire model meshed for ``mesh_hz`` (so synthesis and prediction sweeps see
-    the same segmentation)."""
-    return MomSolver(ifa_wire_model(ifa, mesh_hz)).sweep_direct(np.asarray(freq_hz, float))
+def _mom_zin(freq_hz: np.ndarray, ifa: PrintedIfa, progress: Callable[[int, int], None] | None = None) -> np.ndarray:
+    """MoM Zin on a wire model meshed for a frequency set by the geometry alone
+    (MOM_MESH_PER_ESTIMATE times its quarter-wave estimate), not by the sweep: single-frequency
+    synthesis solves, narrow and wide sweeps of one copper then see the same discretisation
+    (a sweep reaching beyond MOM_MESH_STRETCH times that frequency is meshed for its top)."""
+    f = np.atleast_1d(np.asarray(freq_hz, float))
+    mesh_hz = MOM_MESH_PER_ESTIMATE * quarter_wave_estimate_hz(ifa)
+    if f.max() > MOM_MESH_STRETCH * mesh_hz:  # far above: mesh for the sweep itself
+        mesh_hz = float(f.max())
+    solver = MomSolver(ifa_wire_model(ifa, mesh_hz))
+    if f.size < MOM_INTERPOLATE_FROM:
+        return solver.sweep_direct(f, progress=progress)
+    return solver.sweep_interpolated(f, progress=progress)
 
 
 def _mom_resonance_hz(ifa: PrintedIfa) -> float:
-    """MoM resonance (min |S11|) searched around the transmission-line model's estimate."""
+    """MoM resonance (min |S11| against 50 ohm) searched around the transmission-line model's
+    estimate: a coarse interpolated sweep, then a fine one around its minimum."""
     guess = resonance_tline_ifa_hz(ifa)
-    return predict.resonance_hz(ifa, MOM_SEARCH_LOW * guess, MOM_SEARCH_HIGH * guess)
+    coarse = np.linspace(MOM_SEARCH_LOW * guess, MOM_SEARCH_HIGH * guess, MOM_SEARCH_POINTS)
+    s11 = predict.s11_from_zin(_mom_zin(coarse, ifa), MATCH_OHM)
+    i = int(np.argmin(np.abs(s11)))
+    fine = np.linspace(coarse[max(i - 1, 0)], coarse[min(i + 1, coarse.size - 1)], MOM_SEARCH_POINTS)
+    return predict.min_s11_frequency_hz(fine, predict.s11_from_zin(_mom_zin(fine, ifa), MATCH_OHM))
 
 
 MODELS: dict[str, ResponseModel] = {
@@ -79,21 +91,27 @@ MODELS: dict[str, ResponseModel] = {
         "transmission-line model (footgen.physics.tline_ifa)",
         resonance_tline_ifa_hz,
         lambda f, ifa, progress=None: zin_tline_ifa(f, ifa),
-        lambda f, ifa, mesh_hz: zin_tline_ifa(f, ifa),
     ),
     "mom": ResponseModel(
         "thin-wire method of moments (footgen.physics.mom) over the ground grid and laminate",
         _mom_resonance_hz,
-        lambda f, ifa, progress=None: predict.zin_ohm(ifa, f, progress=progress),
-        _mom_zin_meshed,
+        _mom_zin,
     ),
 }
 #: The fast model that gives every other model its starting point.
 START_MODEL = "tline"
 DEFAULT_MODEL = "mom"
+#: The MoM wire model is meshed for this multiple of the copper's quarter-wave estimate (or the
+#: sweep's top frequency, if higher); sweeps of this many points or more are interpolated.
+MOM_MESH_PER_ESTIMATE = 1.4
+#: Frequencies up to this multiple of the mesh frequency keep that mesh (segments stay
+#: shorter than lambda/20 there: wires.py meshes at lambda/40).
+MOM_MESH_STRETCH = 2.0
+MOM_INTERPOLATE_FROM = 4
 #: MoM resonance search window around the transmission-line estimate (fractions of it).
 MOM_SEARCH_LOW = 0.5
 MOM_SEARCH_HIGH = 1.6
+MOM_SEARCH_POINTS = 41
 
 
 def quarter_wave_first_estimate_mm(spec: Spec, height_mm: float) -> float:
@@ -375,7 +393,7 @@ def refine(spec: Spec, start: Sizing, model: str) -> Sizing:
         if pitch is not None and (fresh is None or abs(fresh - pitch) >= CONVERGED_MM):
             pitch = None  # build what a spec with this arm length would build; re-evaluate below
         if pitch is None:
-            z = complex(rm.zin_meshed(np.array([f0]), _Evaluator(spec, rm).ifa(x["length"], h, x["spacing"]), f0 * (1.0 + PREDICTION_HALF_SPAN))[0])
+            z = complex(rm.zin_ohm(np.array([f0]), _Evaluator(spec, rm).ifa(x["length"], h, x["spacing"]))[0])
             g = abs((z - MATCH_OHM) / (z + MATCH_OHM))
     s11_db = 20 * math.log10(max(g, 1e-6))
     notes = [f"refined with the {rm.label}: |S11| = {s11_db:.1f} dB at {f0 / 1e6:.2f} MHz (start: {start.method})"]
@@ -395,8 +413,6 @@ def _refine_pass(
     lo = {"length": x["spacing"] + min_meander_pitch_mm(spec), "spacing": min_spacing_mm(spec)}
     hi = {"length": _longest_fitting(ev, lo["length"], h, x["spacing"]), "spacing": MAX_SPACING_PER_ARM * x["length"]}
     steps = {"length": REFINE_STEP_LENGTH_MM, "spacing": REFINE_STEP_SPACING_MM}
-    mesh_hz = float(f0[0]) * (1.0 + PREDICTION_HALF_SPAN)
-
     def gamma(values: dict[str, float]) -> np.ndarray:
         """Reflection coefficient at f0 as (re, im); a trial that does not fit reads as a total
         reflection, so the search steps back from it."""
@@ -404,7 +420,7 @@ def _refine_pass(
             ifa = ev.ifa(values["length"], h, values["spacing"])
         except InfeasibleSpecError:
             return np.array([1.0, 0.0])
-        z = complex(rm.zin_meshed(f0, ifa, mesh_hz)[0])
+        z = complex(rm.zin_ohm(f0, ifa)[0])
         g = (z - MATCH_OHM) / (z + MATCH_OHM)
         return np.array([g.real, g.imag])
 

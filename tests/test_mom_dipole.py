@@ -15,7 +15,16 @@ from hypothesis import strategies as st
 
 from footgen.constants import C0_M_PER_S
 from footgen.errors import SolverError
-from footgen.physics.mom import MomSolver, Slab, Wire, WireModel, slab_static_image_weights
+from footgen.physics.mom import (
+    SLAB_TABLE_REL_TOL,
+    MomSolver,
+    Slab,
+    SlabImageTable,
+    Wire,
+    WireModel,
+    slab_image_potential,
+    slab_static_image_weights,
+)
 
 RUNNER_PATH = Path(__file__).parent / "data" / "mom" / "nec2_wire_runner.py"
 
@@ -184,6 +193,23 @@ def test_slab_image_series_limits() -> None:
 
     assert ratio(1e-3 * t) == pytest.approx(2.0 / (eps_r + 1.0), rel=2e-3)
     assert ratio(1e4 * t) == pytest.approx(1.0, rel=2e-3)
+
+
+@settings(max_examples=25, deadline=None)
+@given(eps_r=st.floats(1.5, 12.0), loss_tangent=st.floats(0.0, 0.05), thickness_m=st.floats(1e-4, 5e-3),
+       r_max_m=st.floats(1e-3, 2.0))
+def test_tabulated_slab_images_match_direct_sum(eps_r: float, loss_tangent: float, thickness_m: float,
+                                               r_max_m: float) -> None:
+    """The interpolated image table equals the direct image sum (same series, an internal
+    consistency check) to SLAB_TABLE_REL_TOL over [0, r_max]."""
+    _, weights, depths = slab_static_image_weights(complex(eps_r) * (1 - 1j * loss_tangent), thickness_m)
+    table = SlabImageTable(weights, depths, r_max_m)
+    r = np.concatenate([np.linspace(0.0, r_max_m, 997), np.geomspace(1e-7, r_max_m, 997)])
+    exact = slab_image_potential(r, weights, depths)
+    err = np.abs(table(r) - exact) / np.abs(exact)
+    assert err.max() <= SLAB_TABLE_REL_TOL
+    with pytest.raises(SolverError):
+        table(np.array([2.0 * r_max_m + 1.0]))
 
 
 def test_errors_are_solver_errors() -> None:

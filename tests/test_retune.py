@@ -205,8 +205,6 @@ def test_tap_beyond_the_fab_limit_is_clamped_with_a_note(tmp_path, straight):
     assert abs(result.predicted_freq_hz / f0 - 1) < SOLVE_REL  # the length is still solved
 
 
-@pytest.mark.slow
-@pytest.mark.skipif(os.environ.get("FOOTGEN_SLOW") != "1", reason="set FOOTGEN_SLOW=1 (MoM retune, minutes)")
 def test_synthetic_detuning_lands_on_target_with_the_mom_model(tmp_path):
     """The same synthetic check as above with the MoM model of the registry (board: MoM with
     eps_r 5.0 instead of 4.4, an invented detuning)."""

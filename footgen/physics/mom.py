@@ -68,6 +68,10 @@ SOLVE_CHUNK = 16
 SWEEP_SOLVE_WORKERS = 2  # solver threads in sweeps (the machine target has 2 cores)
 SYM_SOLVE_MIN_UNKNOWNS = 500  # below this numpy's batched LU is as fast
 COPPER_CONDUCTIVITY_S_PER_M = 5.8e7
+# repeated fills of one geometry: the dynamic far part in single precision (the static part and
+# all close pairs stay double)
+FAR_REAL = np.float32
+FAR_COMPLEX = np.complex64
 
 
 @dataclass(frozen=True)
@@ -219,23 +223,19 @@ def _segment_wires(model: WireModel) -> _Mesh:
     """Cut the wires into segments, find nodes and build the triangle basis (with junctions)."""
     if not model.wires:
         raise SolverError("wire model has no wires; give at least one wire")
-    starts, ends, radii, perims = [], [], [], []
-    first_seg = []
-    for wire in model.wires:
-        if wire.n_segments < 1:
-            raise SolverError(f"wire n_segments = {wire.n_segments}: must be >= 1")
-        p0 = np.asarray(wire.start_m, float)
-        p1 = np.asarray(wire.end_m, float)
-        s = np.linspace(0.0, 1.0, wire.n_segments + 1)
-        pts = p0[None, :] + s[:, None] * (p1 - p0)[None, :]
-        first_seg.append(len(starts))
-        starts.extend(pts[:-1])
-        ends.extend(pts[1:])
-        radii.extend([wire.radius_m] * wire.n_segments)
-        perims.extend([wire.loss_perimeter_m] * wire.n_segments)
-    starts_a = np.array(starts)
-    ends_a = np.array(ends)
-    radii_a = np.array(radii, float)
+    counts = np.array([w.n_segments for w in model.wires], np.intp)
+    if np.any(counts < 1):
+        raise SolverError(f"wire n_segments = {int(counts.min())}: must be >= 1")
+    p0 = np.array([w.start_m for w in model.wires], float)
+    p1 = np.array([w.end_m for w in model.wires], float)
+    first_seg = (np.cumsum(counts) - counts).tolist()
+    wire_of = np.repeat(np.arange(counts.shape[0]), counts)
+    local = np.arange(wire_of.shape[0]) - np.repeat(first_seg, counts)
+    step = (p1 - p0) / counts[:, None]
+    starts_a = p0[wire_of] + local[:, None] * step[wire_of]
+    ends_a = np.where((local + 1 == counts[wire_of])[:, None], p1[wire_of], p0[wire_of] + (local + 1)[:, None] * step[wire_of])
+    radii_a = np.array([w.radius_m for w in model.wires], float)[wire_of]
+    perims = np.array([w.loss_perimeter_m for w in model.wires], float)[wire_of]
     lengths = np.linalg.norm(ends_a - starts_a, axis=1)
     if np.any(lengths <= 0.0):
         raise SolverError("wire model has a zero-length wire; remove it")
@@ -291,7 +291,7 @@ def _segment_wires(model: WireModel) -> _Mesh:
         units=units,
         centres=0.5 * (starts_a + ends_a),
         radii=radii_a,
-        perimeters=np.array(perims, float),
+        perimeters=perims,
         seg_nodes=seg_nodes,
         node_xyz=node_xyz,
         half_basis=np.repeat(np.arange(n_basis), 2),
@@ -375,7 +375,7 @@ class _PairIntegrals:
 
     def _product(self, kern: np.ndarray) -> np.ndarray:
         """``sum_o sum_i w_out[o, a] kern[o, i] w_in[i, b]`` per pair -> (P, 2, 2), symmetric for self pairs."""
-        flat = kern.reshape(kern.shape[0], -1)
+        flat = kern.reshape(kern.shape[0], kern.shape[1] * kern.shape[2])
         kron = self._kron if np.isrealobj(flat) else self._kron.astype(flat.dtype)
         out = (flat @ kron).reshape(-1, 2, 2) * self._lplq[:, None, None]
         if self.self_mask.any():
@@ -399,92 +399,147 @@ class MomSolver:
         if model.slab is not None and np.any(np.abs(np.concatenate([mesh.starts[:, 2], mesh.ends[:, 2]])) > NODE_MERGE_TOL_M):
             raise SolverError("laminate model needs all wires in the plane z = 0 (top face of the slab)")
         hb, hs, hl, hg = mesh.half_basis, mesh.half_seg, mesh.half_loc, mesh.half_sig
-        # Assembly in two steps: segment-level integrals (node-function level for A, segment level
-        # for Phi: the divergence is constant on a half), then one gather to basis level summing
-        # the 2 x 2 half combinations of every basis pair with static weights.
-        seg_h = hs.reshape(-1, 2)
-        end_h = (2 * hs + hl).reshape(-1, 2)  # segment-end index: 2 * segment + local end
+        # Assembly: the far (midpoint-rule) part is a congruence of the segment-midpoint kernel G
+        # with two-entry-per-row maps (A: sum_d F_d G F_d^T, F_d = sig u_d l / 2; Phi: Q G Q^T,
+        # Q = sig * divergence sign); the close pairs' accurate 2 x 2 integrals enter as a sparse
+        # correction (accurate minus midpoint) mapped to basis level by sparse products.
+        seg_h = hs.reshape(-1, 2).astype(np.intp)
+        end_h = (2 * hs + hl).reshape(-1, 2).astype(np.intp)  # node-function index: 2 seg + end
         sig_h = hg.reshape(-1, 2).astype(float)
-        div_h = sig_h * half_divergence_sign(mesh, np.arange(hs.shape[0])).reshape(-1, 2) / mesh.lengths[seg_h]
-        dirs = [sig_h[:, i, None] * mesh.units[seg_h[:, i]] for i in range(2)]
-        self._w_a = [[dirs[i] @ dirs[j].T for j in range(2)] for i in range(2)]
-        self._w_phi = [[np.multiply.outer(div_h[:, i], div_h[:, j]) for j in range(2)] for i in range(2)]
-        end_h, seg_i = end_h.astype(np.intp), seg_h.astype(np.intp)
-        self._take_a = [[np.add.outer(end_h[:, i] * (2 * n_seg), end_h[:, j]) for j in range(2)] for i in range(2)]
-        self._take_phi = [[np.add.outer(seg_i[:, i] * n_seg, seg_i[:, j]) for j in range(2)] for i in range(2)]
+        charge_h = sig_h * half_divergence_sign(mesh, np.arange(hs.shape[0])).reshape(-1, 2)
+        dims = [d for d in range(3) if np.any(mesh.units[seg_h, d] != 0.0)]
+        self._far_a = [(seg_h, sig_h * mesh.units[seg_h, d] * (0.5 * mesh.lengths[seg_h])) for d in dims]
+        self._far_phi = (seg_h, charge_h)
+        rows = np.repeat(np.arange(n_basis), 2)
+        self._corr_a = []
+        for d in dims:
+            e = sp.csr_matrix(((sig_h * mesh.units[seg_h, d]).reshape(-1), (rows, end_h.reshape(-1))), shape=(n_basis, 2 * n_seg))
+            self._corr_a.append((e, e.T.tocsr()))
+        d_map = sp.csr_matrix(((charge_h / mesh.lengths[seg_h]).reshape(-1), (rows, seg_h.reshape(-1))), shape=(n_basis, n_seg))
+        self._corr_phi = (d_map, d_map.T.tocsr())
         cen = mesh.centres
         sq = np.einsum("nd,nd->n", cen, cen)
         dist2 = np.maximum(sq[:, None] + sq[None, :] - 2.0 * cen @ cen.T, 0.0)
         a2 = 0.5 * (mesh.radii[:, None] ** 2 + mesh.radii[None, :] ** 2)
         self._r_mid = np.sqrt(dist2 + a2)
         self._inv_4pi_r_mid = 1.0 / (4.0 * math.pi * self._r_mid)
-        self._lplq = np.multiply.outer(mesh.lengths, mesh.lengths)
-        # pair tiers (p <= q)
-        inc = sp.csr_matrix((np.ones(2 * n_seg), (np.repeat(np.arange(n_seg), 2), mesh.seg_nodes.reshape(-1))),
-                            shape=(n_seg, mesh.node_xyz.shape[0]))
-        touch = (inc @ inc.T).tocoo()
-        tp, tq = touch.row, touch.col
-        keep = tp <= tq
-        sing_p, sing_q = tp[keep], tq[keep]
+        # close candidates (every touching pair is one: centres <= mean length apart); touching
+        # pairs (a shared node) and self pairs (first, in segment order) form the singular tier
         mean_len = 0.5 * (mesh.lengths[:, None] + mesh.lengths[None, :])
-        near_mask = np.triu(dist2 < (NEAR_PAIR_FACTOR * mean_len) ** 2, 1)
-        near_mask[sing_p, sing_q] = False
-        near_p, near_q = np.nonzero(near_mask)
+        cand_p, cand_q = np.nonzero(np.triu(dist2 < (NEAR_PAIR_FACTOR * mean_len) ** 2, 1))
+        nodes_p, nodes_q = mesh.seg_nodes[cand_p], mesh.seg_nodes[cand_q]
+        touching = ((nodes_p[:, :, None] == nodes_q[:, None, :]).any(axis=(1, 2)))
+        diag = np.arange(n_seg)
+        sing_p = np.concatenate([diag, cand_p[touching]])
+        sing_q = np.concatenate([diag, cand_q[touching]])
+        near_p, near_q = cand_p[~touching], cand_q[~touching]
         self._sing = _PairIntegrals(mesh, sing_p, sing_q, singular=True)
         self._near = _PairIntegrals(mesh, near_p, near_q, singular=False)
+        self._build_correction_patterns(n_seg)
         # source vector: applied field V/l on the source segment, V = 1
         on_src = hs == mesh.source_seg
         self._v = np.zeros(n_basis)
         np.add.at(self._v, hb[on_src], hg[on_src] * 0.5)
-        # frequency-independent slab (segment level) and conductor-loss (node level) parts; their
-        # basis-level forms are built only for interpolated sweeps
-        self._slab_kp = self._slab_segment_matrix() if model.slab is not None else None
-        self._loss_rc, self._loss_mass = self._loss_entries()
+        # conductor loss on the self pairs' node-function entries (l/3 diagonal, l/6 off it)
+        lossy = mesh.perimeters > 0.0
+        scale = np.where(lossy, mesh.lengths / np.where(lossy, mesh.perimeters, 1.0), 0.0)
+        self._loss_self = scale[:, None, None] * np.array([[1.0 / 3.0, 1.0 / 6.0], [1.0 / 6.0, 1.0 / 3.0]])[None]
+        self._has_loss = bool(lossy.any())
+        self._slab = self._slab_parts() if model.slab is not None else None
         self._basis_parts: dict[str, object] = {}
+        self._fills = 0
 
     # -- assembly helpers -------------------------------------------------------------------
-    def _gather(self, seg_matrix: np.ndarray, takes: list[list[np.ndarray]], weights: list[list[np.ndarray]]) -> np.ndarray:
-        """Basis-level matrix ``sum_ij weights[i][j] * seg_matrix[takes[i][j]]`` over the half pairs."""
-        flat = seg_matrix.reshape(-1)
-        n_b = self.mesh.n_basis
-        out = np.empty((n_b, n_b), flat.dtype)
-        tmp = np.empty_like(out)
-        for i in range(2):
-            for j in range(2):
-                if i == 0 and j == 0:
-                    np.take(flat, takes[0][0], out=out)
-                    out *= weights[0][0]
-                else:
-                    np.take(flat, takes[i][j], out=tmp)
-                    tmp *= weights[i][j]
-                    out += tmp
+    def _build_correction_patterns(self, n_seg: int) -> None:
+        """Sparse patterns (fixed per geometry) of the close-pair corrections: node-function level
+        for A (both orders of every pair), segment level for Phi."""
+        a_rows, a_cols, p_rows, p_cols = [], [], [], []
+        ab = np.array([[0, 0], [0, 1], [1, 0], [1, 1]])
+        for pairs in (self._sing, self._near):
+            p, q = pairs.p.astype(np.intp), pairs.q.astype(np.intp)
+            off = p != q
+            r = (2 * p[:, None] + ab[None, :, 0]).reshape(-1)
+            c = (2 * q[:, None] + ab[None, :, 1]).reshape(-1)
+            off4 = np.repeat(off, 4)
+            a_rows += [r, c[off4]]
+            a_cols += [c, r[off4]]
+            p_rows += [p, q[off]]
+            p_cols += [q, p[off]]
+        self._pat_a = self._csr_pattern(np.concatenate(a_rows), np.concatenate(a_cols), 2 * n_seg)
+        self._pat_phi = self._csr_pattern(np.concatenate(p_rows), np.concatenate(p_cols), n_seg)
+
+    @staticmethod
+    def _csr_pattern(rows: np.ndarray, cols: np.ndarray, n: int) -> tuple:
+        """CSR structure of unique ``(rows, cols)`` and the permutation from entry order to CSR order."""
+        m = sp.csr_matrix((np.arange(1, rows.shape[0] + 1, dtype=float), (rows, cols)), shape=(n, n))
+        return m.indices, m.indptr, m.data.astype(np.intp) - 1, n
+
+    def _correction_values(self, g_mid: np.ndarray, pair_values: tuple[np.ndarray, np.ndarray]) -> tuple[np.ndarray, np.ndarray]:
+        """Close-pair corrections (accurate minus midpoint rule) in the order of the patterns:
+        A values (per pair 2 x 2, both orders) and Phi values (per pair, both orders)."""
+        a_vals, p_vals = [], []
+        for pairs, m in zip((self._sing, self._near), pair_values):
+            p, q = pairs.p, pairs.q
+            mid = g_mid[p, q] * (self.mesh.lengths[p] * self.mesh.lengths[q])
+            corr_a = m - 0.25 * mid[:, None, None]
+            corr_p = m.sum(axis=(1, 2)) - mid
+            off = p != q
+            a_vals += [corr_a.reshape(-1), corr_a[off].reshape(-1)]
+            p_vals += [corr_p, corr_p[off]]
+        return np.concatenate(a_vals), np.concatenate(p_vals)
+
+    def _sparse_basis(self, pattern: tuple, values: np.ndarray, maps: list[tuple]) -> sp.coo_matrix:
+        """``sum_maps M C M^T`` for the correction ``C`` given by ``pattern`` and ``values``."""
+        indices, indptr, perm, n = pattern
+        c = sp.csr_matrix((values[perm], indices, indptr), shape=(n, n))
+        out = None
+        for m, m_t in maps:
+            term = m @ c @ m_t
+            out = term if out is None else out + term
+        return out.tocoo()
+
+    @staticmethod
+    def _congruence(idx: np.ndarray, w: np.ndarray, k: np.ndarray) -> np.ndarray:
+        """``M K M^T`` for a map ``M`` with two entries per row (``M[b, idx[b, i]] = w[b, i]``) and a
+        symmetric ``K``: row gathers, then column gathers (no transposed copies)."""
+        return MomSolver._congruences(idx, [w], k)[0]
+
+    @staticmethod
+    def _congruences(idx: np.ndarray, weights: list[np.ndarray], k: np.ndarray) -> list[np.ndarray]:
+        """``M_c K M_c^T`` for maps sharing the indices ``idx`` (the row gathers are shared)."""
+        rows = [k[idx[:, 0]], k[idx[:, 1]]]
+        out = []
+        for w in weights:
+            x = rows[0] * w[:, 0, None]
+            x += rows[1] * w[:, 1, None]
+            z = np.take(x, idx[:, 0], axis=1)
+            z *= w[None, :, 0]
+            tmp = np.take(x, idx[:, 1], axis=1)
+            tmp *= w[None, :, 1]
+            z += tmp
+            out.append(z)
         return out
 
-    def _segment_matrices(self, g_mid: np.ndarray, pair_values: tuple[np.ndarray | None, np.ndarray | None],
-                          with_a: bool = True) -> tuple[np.ndarray | None, np.ndarray]:
-        """Node-function-level ``A`` integrals (2 N x 2 N, index ``2 seg + end``) and segment-level
-        ``Phi`` integrals (N x N): the midpoint rule ``g_mid`` everywhere, the accurate 2 x 2 pair
-        integrals of the singular and near tiers (``pair_values``, in that order) written over it."""
-        n_seg = self.mesh.lengths.shape[0]
-        kp = g_mid * self._lplq
-        ka = None
-        if with_a:
-            ka = np.empty((n_seg, 2, n_seg, 2), kp.dtype)
-            ka[...] = (0.25 * kp)[:, None, :, None]
-            ka = ka.reshape(2 * n_seg, 2 * n_seg)
-        for pairs, m in zip((self._sing, self._near), pair_values):
-            if m is None or pairs.p.shape[0] == 0:
-                continue
-            p, q = pairs.p, pairs.q
-            total = m.sum(axis=(1, 2))
-            kp[p, q] = total
-            kp[q, p] = total
-            if with_a:
-                for a in range(2):
-                    for b in range(2):
-                        ka[2 * p + a, 2 * q + b] = m[:, a, b]
-                        ka[2 * q + b, 2 * p + a] = m[:, a, b]
-        return ka, kp
+    def _assemble(self, g: np.ndarray, scale_a: complex, scale_phi: complex, corr_a: np.ndarray,
+                  corr_p: np.ndarray) -> np.ndarray:
+        """Basis-level ``scale_a sum_d F_d g F_d^T + scale_phi Q g Q^T`` plus the mapped sparse
+        corrections (already scaled); a zero scale skips its part."""
+        idx = self._far_phi[0]
+        far_a, far_phi = ([w for _, w in self._far_a], self._far_phi[1])
+        if g.dtype == FAR_COMPLEX:  # single-precision dynamic pass: weights in single precision too
+            far_a, far_phi = [w.astype(FAR_REAL) for w in far_a], far_phi.astype(FAR_REAL)
+        weights = (far_a if scale_a else []) + ([far_phi] if scale_phi else [])
+        parts = self._congruences(idx, weights, g)
+        z = np.zeros((self.mesh.n_basis,) * 2, complex)
+        n_a = len(self._far_a) if scale_a else 0
+        for i, part in enumerate(parts):
+            part *= scale_a if i < n_a else scale_phi
+            z += part
+        for pattern, values, maps in ((self._pat_a, corr_a, self._corr_a), (self._pat_phi, corr_p, [self._corr_phi])):
+            if values.shape[0] and maps and np.any(values != 0.0):
+                c = self._sparse_basis(pattern, values, maps)
+                z[c.row, c.col] += c.data
+        return z
 
     def _midpoint_kernel(self, k_rad_per_m: float) -> np.ndarray:
         """``exp(-jkR)/(4 pi R)`` between segment midpoints (reduced-kernel distance)."""
@@ -496,51 +551,49 @@ class MomSolver:
         g *= self._inv_4pi_r_mid
         return g
 
-    def _slab_segment_matrix(self) -> np.ndarray:
-        """Frequency-independent slab part of the scalar-potential integrals (segment level)."""
+    def _slab_parts(self) -> tuple[np.ndarray, np.ndarray]:
+        """Frequency-independent slab part of the scalar potential: midpoint kernel (segment level)
+        and close-pair Phi corrections (pattern order)."""
         slab = self.model.slab
         k_refl, weights, depths = slab_static_image_weights(slab.eps_complex, slab.thickness_m)
-
-        images = SlabImageTable(weights, depths, float(self._r_mid.max()))
-
+        r_max = max([float(self._r_mid.max())] + [float(pairs.r_pts.max()) for pairs in (self._sing, self._near) if pairs.r_pts.size])
+        images = SlabImageTable(weights, depths, r_max)
         kern_mid = images(self._r_mid) - k_refl * self._inv_4pi_r_mid
         pair_values = tuple(pairs.smooth_kernel(images) - k_refl * pairs.static for pairs in (self._sing, self._near))
-        _, kp = self._segment_matrices(kern_mid, pair_values, with_a=False)
-        return kp
-
-    def _loss_entries(self) -> tuple[tuple[np.ndarray, np.ndarray], np.ndarray]:
-        """Node-level entries ``(rows, cols), values`` of ``int phi_a phi_b dl / perimeter`` on lossy
-        segments (linear node functions: l/3 on the diagonal, l/6 off it)."""
-        mesh = self.mesh
-        lossy = np.nonzero(mesh.perimeters > 0.0)[0]
-        scale = mesh.lengths[lossy] / mesh.perimeters[lossy]
-        rows, cols, vals = [], [], []
-        for a in range(2):
-            for b in range(2):
-                rows.append(2 * lossy + a)
-                cols.append(2 * lossy + b)
-                vals.append(scale * (1.0 / 3.0 if a == b else 1.0 / 6.0))
-        return (np.concatenate(rows), np.concatenate(cols)), np.concatenate(vals)
+        _, corr_p = self._correction_values(kern_mid, pair_values)
+        return kern_mid, corr_p
 
     @property
     def _slab_phi(self) -> np.ndarray | None:
         """Basis-level slab part of the scalar-potential matrix (for interpolated sweeps)."""
-        if self._slab_kp is None:
+        if self._slab is None:
             return None
         if "slab" not in self._basis_parts:
-            self._basis_parts["slab"] = self._gather(self._slab_kp, self._take_phi, self._w_phi)
+            kern_mid, corr_p = self._slab
+            z = self._congruence(*self._far_phi, kern_mid)
+            c = self._sparse_basis(self._pat_phi, corr_p, [self._corr_phi])
+            z[c.row, c.col] += c.data
+            self._basis_parts["slab"] = z
         return self._basis_parts["slab"]
+
+    def _loss_values(self) -> np.ndarray:
+        """Node-level loss mass entries in the A-pattern order (self pairs lead the singular tier)."""
+        vals = np.zeros(self._pat_a[2].shape[0])
+        vals[: 4 * self.mesh.lengths.shape[0]] = self._loss_self.reshape(-1)
+        return vals
 
     @property
     def _loss_pattern(self) -> tuple[np.ndarray, np.ndarray]:
         """Sparse basis-level pattern ``(flat indices, values)`` of the conductor-loss matrix."""
         if "loss" not in self._basis_parts:
-            n_seg = self.mesh.lengths.shape[0]
-            ka = np.zeros((2 * n_seg, 2 * n_seg))
-            ka[self._loss_rc] += self._loss_mass
-            dense = self._gather(ka, self._take_a, self._w_a).reshape(-1)
-            idx = np.nonzero(dense)[0]
-            self._basis_parts["loss"] = (idx, dense[idx])
+            n_b = self.mesh.n_basis
+            if not self._has_loss:
+                self._basis_parts["loss"] = (np.zeros(0, np.intp), np.zeros(0))
+            else:
+                c = self._sparse_basis(self._pat_a, self._loss_values(), self._corr_a)
+                flat = c.row.astype(np.intp) * n_b + c.col
+                keep = c.data != 0.0
+                self._basis_parts["loss"] = (flat[keep], c.data[keep])
         return self._basis_parts["loss"]
 
     def surface_resistance_ohm(self, freq_hz: float) -> float:
@@ -551,25 +604,65 @@ class MomSolver:
     def potential_matrices(self, freq_hz: float) -> tuple[np.ndarray, np.ndarray]:
         """Basis-level vector- and scalar-potential matrices ``A``, ``Phi`` (free-space kernel)."""
         k = 2.0 * math.pi * freq_hz / C0_M_PER_S
-        ka, kp = self._segment_matrices(self._midpoint_kernel(k), (self._sing.full(k), self._near.full(k)))
-        return self._gather(ka, self._take_a, self._w_a), self._gather(kp, self._take_phi, self._w_phi)
+        g = self._midpoint_kernel(k)
+        corr_a, corr_p = self._correction_values(g, (self._sing.full(k), self._near.full(k)))
+        a_mat = self._assemble(g, 1.0, 0.0, corr_a, np.zeros_like(corr_p))
+        phi_mat = self._assemble(g, 0.0, 1.0, np.zeros_like(corr_a), corr_p)
+        return a_mat, phi_mat
 
     def impedance_matrix(self, freq_hz: float) -> np.ndarray:
         """Full Galerkin impedance matrix (ohm) at one frequency:
-        ``Z = j w mu0 A + (Phi + Phi_slab)/(j w eps0) + Z_loss``, combined at segment level so that
-        only two gathers to basis level are needed."""
+        ``Z = j w mu0 A + (Phi + Phi_slab)/(j w eps0) + Z_loss``."""
         omega = 2.0 * math.pi * freq_hz
         k = omega / C0_M_PER_S
-        ka, kp = self._segment_matrices(self._midpoint_kernel(k), (self._sing.full(k), self._near.full(k)))
-        if self._slab_kp is not None:
-            kp += self._slab_kp
-        kp *= 1.0 / (1j * omega * EPS0_F_PER_M)
-        ka *= 1j * omega * MU0_H_PER_M
-        if self._loss_mass.shape[0]:
-            ka[self._loss_rc] += (1.0 + 1j) * self.surface_resistance_ohm(freq_hz) * self._loss_mass
-        z = self._gather(ka, self._take_a, self._w_a)
-        z += self._gather(kp, self._take_phi, self._w_phi)
+        g = self._midpoint_kernel(k)
+        corr_a, corr_p = self._correction_values(g, (self._sing.full(k), self._near.full(k)))
+        jwmu, inv_jweps = 1j * omega * MU0_H_PER_M, 1.0 / (1j * omega * EPS0_F_PER_M)
+        corr_a *= jwmu
+        corr_p *= inv_jweps
+        if self._has_loss:
+            corr_a[: self._loss_self.size] += (1.0 + 1j) * self.surface_resistance_ohm(freq_hz) * self._loss_self.reshape(-1)
+        self._fills += 1
+        if self._fills == 1:
+            z = self._assemble(g, jwmu, inv_jweps, corr_a, corr_p)
+        else:
+            # repeated fills of one geometry: the static far part 1/(4 pi R) once in double
+            # precision, per frequency only the bounded dynamic part (exp(-jkR) - 1)/(4 pi R) in
+            # single precision (the scalar-potential term is ~1/(kl)^2 larger than the vector
+            # potential, so a single-precision exp(-jkR)/R would not be accurate enough)
+            a_static, phi_static = self._static_far
+            z = self._assemble(self._far_dynamic_kernel(k), jwmu, inv_jweps, corr_a, corr_p)
+            z += jwmu * a_static
+            z += inv_jweps * phi_static
+        if self._slab is not None:
+            z += self._slab_phi * inv_jweps
         return z
+
+    @property
+    def _static_far(self) -> tuple[np.ndarray, np.ndarray]:
+        """Basis-level midpoint-rule ``A`` and ``Phi`` of the static kernel ``1/(4 pi R)``."""
+        if "static" not in self._basis_parts:
+            empty_a, empty_p = np.zeros(self._pat_a[2].shape[0]), np.zeros(self._pat_phi[2].shape[0])
+            self._basis_parts["static"] = (self._assemble(self._inv_4pi_r_mid, 1.0, 0.0, empty_a, empty_p),
+                                           self._assemble(self._inv_4pi_r_mid, 0.0, 1.0, empty_a, empty_p))
+        return self._basis_parts["static"]
+
+    def _far_dynamic_kernel(self, k_rad_per_m: float) -> np.ndarray:
+        """``(exp(-jkR) - 1)/(4 pi R)`` between segment midpoints in single precision, written as
+        ``(-2 sin^2(kR/2) - j sin(kR)) / (4 pi R)`` so that it keeps its relative accuracy."""
+        if "r32" not in self._basis_parts:
+            self._basis_parts["r32"] = (self._r_mid.astype(FAR_REAL), self._inv_4pi_r_mid.astype(FAR_REAL))
+        r32, inv32 = self._basis_parts["r32"]
+        half = r32 * FAR_REAL(0.5 * k_rad_per_m)
+        g = np.empty(half.shape, FAR_COMPLEX)
+        s_half = np.sin(half)
+        np.multiply(s_half, s_half, out=g.real)
+        g.real *= FAR_REAL(-2.0)
+        half *= FAR_REAL(2.0)
+        np.sin(half, out=g.imag)
+        np.negative(g.imag, out=g.imag)
+        g *= inv32
+        return g
 
     def zin_ohm(self, freq_hz: float) -> complex:
         """Input impedance at the delta-gap source (full fill and LAPACK solve)."""
