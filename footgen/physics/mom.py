@@ -474,13 +474,19 @@ class MomSolver:
         m = sp.csr_matrix((np.arange(1, rows.shape[0] + 1, dtype=float), (rows, cols)), shape=(n, n))
         return m.indices, m.indptr, m.data.astype(np.intp) - 1, n
 
-    def _correction_values(self, g_mid: np.ndarray, pair_values: tuple[np.ndarray, np.ndarray]) -> tuple[np.ndarray, np.ndarray]:
+    def _correction_values(self, g_mid: np.ndarray | float, pair_values: tuple[np.ndarray, np.ndarray]) -> tuple[np.ndarray, np.ndarray]:
         """Close-pair corrections (accurate minus midpoint rule) in the order of the patterns:
-        A values (per pair 2 x 2, both orders) and Phi values (per pair, both orders)."""
+        A values (per pair 2 x 2, both orders) and Phi values (per pair, both orders).  ``g_mid`` is
+        the midpoint kernel matrix, or a wavenumber (the free-space kernel at the pairs only)."""
         a_vals, p_vals = [], []
         for pairs, m in zip((self._sing, self._near), pair_values):
             p, q = pairs.p, pairs.q
-            mid = g_mid[p, q] * (self.mesh.lengths[p] * self.mesh.lengths[q])
+            if isinstance(g_mid, np.ndarray):
+                g_pq = g_mid[p, q]
+            else:
+                r = self._r_mid[p, q]
+                g_pq = np.exp(-1j * g_mid * r) / (4.0 * math.pi * r)
+            mid = g_pq * (self.mesh.lengths[p] * self.mesh.lengths[q])
             corr_a = m - 0.25 * mid[:, None, None]
             corr_p = m.sum(axis=(1, 2)) - mid
             off = p != q
@@ -615,15 +621,15 @@ class MomSolver:
         ``Z = j w mu0 A + (Phi + Phi_slab)/(j w eps0) + Z_loss``."""
         omega = 2.0 * math.pi * freq_hz
         k = omega / C0_M_PER_S
-        g = self._midpoint_kernel(k)
-        corr_a, corr_p = self._correction_values(g, (self._sing.full(k), self._near.full(k)))
+        self._fills += 1
+        g = self._midpoint_kernel(k) if self._fills == 1 else None
+        corr_a, corr_p = self._correction_values(g if g is not None else k, (self._sing.full(k), self._near.full(k)))
         jwmu, inv_jweps = 1j * omega * MU0_H_PER_M, 1.0 / (1j * omega * EPS0_F_PER_M)
         corr_a *= jwmu
         corr_p *= inv_jweps
         if self._has_loss:
             corr_a[: self._loss_self.size] += (1.0 + 1j) * self.surface_resistance_ohm(freq_hz) * self._loss_self.reshape(-1)
-        self._fills += 1
-        if self._fills == 1:
+        if g is not None:
             z = self._assemble(g, jwmu, inv_jweps, corr_a, corr_p)
         else:
             # repeated fills of one geometry: the static far part 1/(4 pi R) once in double
