@@ -34,7 +34,7 @@ COLORS = {
 }
 
 
-def _patches(ax, geom: BaseGeometry, **style) -> None:
+def patches(ax, geom: BaseGeometry, **style) -> None:
     polys = geom.geoms if isinstance(geom, MultiPolygon) else [geom]
     for poly in polys:
         if isinstance(poly, Polygon) and not poly.is_empty:
@@ -70,13 +70,13 @@ def figure(layout: Layout, title: str, subtitle: str) -> Figure:
     ax = fig.add_subplot(1, 1, 1)
     x0, y0, x1, y1 = layout.courtyard.bounds
     view = layout.ground.intersection(layout.courtyard.buffer(GROUND_VIEW_MM, join_style="mitre"))
-    _patches(ax, view, facecolor=COLORS["ground"], edgecolor="none", alpha=0.6, label="ground pour")
+    patches(ax, view, facecolor=COLORS["ground"], edgecolor="none", alpha=0.6, label="ground pour")
     for k in layout.keepouts:
-        _patches(ax, k.polygon, facecolor=COLORS["keepout"], edgecolor=COLORS["edge"], hatch="//", lw=0.6, ls="--")
-    _patches(ax, layout.antenna, facecolor=COLORS["copper"], edgecolor="black", lw=0.4)
+        patches(ax, k.polygon, facecolor=COLORS["keepout"], edgecolor=COLORS["edge"], hatch="//", lw=0.6, ls="--")
+    patches(ax, layout.antenna, facecolor=COLORS["copper"], edgecolor="black", lw=0.4)
     for pad in layout.pads:
         if pad.kind == "smd" and pad.shape != "custom":
-            _patches(ax, pad.polygon, facecolor=COLORS["pad"], edgecolor="black", lw=0.4)
+            patches(ax, pad.polygon, facecolor=COLORS["pad"], edgecolor="black", lw=0.4)
     for via in layout.vias:
         ax.add_patch(matplotlib.patches.Circle(via.center, via.size[0] / 2, fc=COLORS["pad"], ec="black", lw=0.4))
         ax.add_patch(matplotlib.patches.Circle(via.center, (via.drill_mm or 0) / 2, fc="white", ec="black", lw=0.3))

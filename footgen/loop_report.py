@@ -285,8 +285,8 @@ def report_files(spec: Spec, measurement: Measurement | None = None, *, previous
                  calibration=None, model: str = sizing.DEFAULT_MODEL, series: str = "E24",
                  progress: Progress | None = None) -> dict[str, bytes]:
     """The report's files (relative names -> bytes)."""
-    from footgen.draw import render_svg_png
-    from footgen.revdiff import diff_layouts, diff_markdown, overlay_svg_png, spec_changes, svg_png_bytes
+    from footgen.draw import figure_bytes, render_svg_png
+    from footgen.revdiff import diff_layouts, diff_markdown, overlay_svg_png, spec_changes
 
     say = progress or _quiet
     data = prepare(spec, measurement, calibration=calibration, model=model, series=series, progress=say)
@@ -296,8 +296,8 @@ def report_files(spec: Spec, measurement: Measurement | None = None, *, previous
     say("report: drawing")
     subtitle = f"{spec.target.low_hz / 1e6:g}-{spec.target.high_hz / 1e6:g} MHz, {spec.style.kind}, revision {spec.revision}"
     drawings = {"copper": render_svg_png(data.layout, spec.name, subtitle),
-                "s11": svg_png_bytes(s11_figure(data)),
-                "smith": svg_png_bytes(smith_figure(data))}
+                "s11": figure_bytes(s11_figure(data)),
+                "smith": figure_bytes(smith_figure(data))}
     diff_md = None
     if previous is not None:
         say("report: comparing with the previous revision")

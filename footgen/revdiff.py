@@ -8,7 +8,6 @@ our own: the copper of pad 1 (footgen's custom antenna pad) is the union of its 
 
 from __future__ import annotations
 
-import io
 import json
 import math
 import re
@@ -329,31 +328,16 @@ def diff_lines(diff: RevisionDiff) -> list[str]:
     return out
 
 
-def svg_png_bytes(fig) -> tuple[bytes, bytes]:
-    """SVG and PNG bytes of a matplotlib Figure, deterministic (fixed hash salt, no date)."""
-    import matplotlib
-    from matplotlib.backends.backend_agg import FigureCanvasAgg
-    from matplotlib.backends.backend_svg import FigureCanvasSVG
-
-    svg, png = io.BytesIO(), io.BytesIO()
-    with matplotlib.rc_context({"svg.hashsalt": "footgen", "svg.fonttype": "none"}):
-        FigureCanvasSVG(fig)
-        fig.savefig(svg, format="svg", metadata={"Date": None, "Creator": "footgen"})
-    FigureCanvasAgg(fig)
-    fig.savefig(png, format="png", dpi=PNG_DPI, metadata={"Software": "footgen"})
-    return svg.getvalue(), png.getvalue()
-
-
 def overlay_svg_png(diff: RevisionDiff) -> tuple[bytes, bytes]:
     """Overlay of both coppers (old outlined grey, new filled copper), feed point at the origin."""
     from matplotlib.figure import Figure
 
-    from footgen.draw import _patches
+    from footgen.draw import figure_bytes, patches
 
     fig = Figure(figsize=(8.0, 4.5))
     ax = fig.add_subplot(1, 1, 1)
-    _patches(ax, diff.old_copper, facecolor="none", edgecolor=OLD_COLOR, lw=1.0, ls="--", label=diff.old_label)
-    _patches(ax, diff.new_copper, facecolor=NEW_COLOR, edgecolor="black", lw=0.4, alpha=0.55, label=diff.new_label)
+    patches(ax, diff.old_copper, facecolor="none", edgecolor=OLD_COLOR, lw=1.0, ls="--", label=diff.old_label)
+    patches(ax, diff.new_copper, facecolor=NEW_COLOR, edgecolor="black", lw=0.4, alpha=0.55, label=diff.new_label)
     x0, y0, x1, y1 = shapely.union_all([diff.old_copper, diff.new_copper]).bounds
     ax.set_xlim(x0 - 1.0, x1 + 1.0)
     ax.set_ylim(y0 - 1.0, y1 + 1.5)
@@ -366,4 +350,4 @@ def overlay_svg_png(diff: RevisionDiff) -> tuple[bytes, bytes]:
     ax.set_ylabel("y (mm)", fontsize=7)
     ax.tick_params(labelsize=7)
     fig.tight_layout()
-    return svg_png_bytes(fig)
+    return figure_bytes(fig)

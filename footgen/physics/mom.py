@@ -13,8 +13,14 @@ of Moments in Electromagnetics", 2nd ed. 2014, ch. 3 and 5):
   closed form (linear weights), the remainder ``(exp(-jkR) - 1)/R`` and the outer integral by
   Gauss-Legendre quadrature on a cosine-graded mesh.  Close pairs use a product Gauss rule, far
   pairs the segment-midpoint rule (its first-order error cancels within each triangle).
-* Assembly: node-function integrals per segment pair (midpoint rule, overwritten by the accurate
-  close-pair values), then one gather to basis level with static half-pair weights; all float64.
+* Assembly: the far (midpoint-rule) part as congruences ``M G M^T`` of the segment-midpoint
+  kernel with two-entry-per-row half-to-basis maps, the close pairs as a sparse correction
+  (accurate minus midpoint) mapped to basis level by sparse products; double precision.  Repeated
+  fills of one geometry (direct sweeps) keep the static far part ``1/R`` once in double precision
+  and fill only the bounded dynamic part ``(exp(-jkR) - 1)/R`` per frequency in single precision
+  (a single-precision ``exp(-jkR)/R`` would not do: the Phi term is ~1/(kl)^2 larger than A).
+* Slab image potential: tabulated once per model on a grid uniform in ``asinh(R / z_1)`` and
+  interpolated linearly (relative error < SLAB_TABLE_REL_TOL against the direct image sum).
 * Solve: LAPACK via numpy (LU) or, for >= SYM_SOLVE_MIN_UNKNOWNS, scipy's complex-symmetric
   LDL^T (Z is symmetric by reciprocity and Galerkin testing).
 * Delta-gap source: applied field ``V / l`` on one segment; ``Zin = V / I(segment centre)``,
