@@ -212,6 +212,19 @@ def test_tabulated_slab_images_match_direct_sum(eps_r: float, loss_tangent: floa
         table(np.array([2.0 * r_max_m + 1.0]))
 
 
+REPEATED_FILL_REL_TOL = 1e-5  # single-precision dynamic far part on repeated fills
+
+
+def test_repeated_fills_match_the_first_fill() -> None:
+    """A solver reused over frequencies (static far part once, dynamic part in single precision)
+    gives the first fill's double-precision answer again (internal consistency)."""
+    wires = (Wire((0, 0, 0), (0.2, 0, 0), 21, 1e-3, 4e-3), Wire((0.2, 0, 0), (0.2, 0.1, 0), 9, 1e-3, 4e-3))
+    model = WireModel(wires, 0, 10, slab=Slab(4.3, 1.6e-3, 0.02))
+    z = MomSolver(model).sweep_direct(np.array([6.0e8, 7.0e8, 6.0e8, 7.0e8]))
+    assert abs(z[2] / z[0] - 1.0) <= REPEATED_FILL_REL_TOL
+    assert abs(z[3] / MomSolver(model).zin_ohm(7.0e8) - 1.0) <= REPEATED_FILL_REL_TOL
+
+
 def test_errors_are_solver_errors() -> None:
     with pytest.raises(SolverError):
         MomSolver(WireModel((Wire((0, 0, 0), (0.001, 0, 0), 5, 1e-3),), 0, 2))  # segment < 2 radii

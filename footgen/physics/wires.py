@@ -11,6 +11,12 @@ of the smallest feature but >= 4 trace radii; grid <= lambda / 20; the ground ed
 antenna at the antenna's segment length.  The delta-gap source is the one-segment wire
 across the port gap between the ground edge and the feed leg.  All wires lie in ``z = 0``; the
 laminate is handed to the solver as a :class:`footgen.physics.mom.Slab` under the copper.
+
+Every geometry the layout generator makes must give a model the solver accepts: a piece shorter
+than twice its equivalent radius (a port gap under a wide trace, a short tail) keeps its length
+and gets a thinner radius just inside the solver's limit; the source spans at most half the height
+of the arm above the feed; arm vertices closer than ``VERTEX_MERGE_M`` merge; a ground corner
+within half a leg width of a leg moves onto it.  A leg that misses the ground plane is refused.
 """
 
 from __future__ import annotations
