@@ -20,6 +20,7 @@ import jsonschema
 
 from footgen.bands import BANDS
 from footgen.errors import SpecError
+from footgen.resources import shipped
 
 SCHEMA_RESOURCE = "footgen-spec-v1.schema.json"
 #: Shunt-via defaults (mm), raised to the fab profile's minimum where that is larger.
@@ -29,7 +30,7 @@ DEFAULT_VIA_RING_MM = 0.15
 
 def load_schema() -> dict:
     """The spec's JSON Schema (shipped inside the package as ``footgen.schemas``)."""
-    return json.loads(resources.files("footgen.schemas").joinpath(SCHEMA_RESOURCE).read_text("utf-8"))
+    return json.loads(shipped("schemas").joinpath(SCHEMA_RESOURCE).read_text("utf-8"))
 
 
 def load_fab_profiles() -> dict[str, dict]:

@@ -4,15 +4,15 @@ from __future__ import annotations
 
 import difflib
 import json
-from importlib import resources
 from pathlib import Path
 
 from footgen.errors import OverwriteRefusedError, SpecError
 from footgen.outputs import atomic_write
+from footgen.resources import shipped
 
 
 def _files() -> dict[str, str]:
-    root = resources.files("footgen.templates")
+    root = shipped("templates")
     return {p.name[: -len(".json")]: p.read_text("utf-8") for p in root.iterdir() if p.name.endswith(".json")}
 
 

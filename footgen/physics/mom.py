@@ -542,11 +542,13 @@ class MomSolver:
             far_a, far_phi = [w.astype(FAR_REAL) for w in far_a], far_phi.astype(FAR_REAL)
         weights = (far_a if scale_a else []) + ([far_phi] if scale_phi else [])
         parts = self._congruences(idx, weights, g)
-        z = np.zeros((self.mesh.n_basis,) * 2, complex)
         n_a = len(self._far_a) if scale_a else 0
         for i, part in enumerate(parts):
             part *= scale_a if i < n_a else scale_phi
+        z = parts[0]  # summed in the precision of g
+        for part in parts[1:]:
             z += part
+        z = z.astype(complex, copy=False)
         for pattern, values, maps in ((self._pat_a, corr_a, self._corr_a), (self._pat_phi, corr_p, [self._corr_phi])):
             if values.shape[0] and maps and np.any(values != 0.0):
                 c = self._sparse_basis(pattern, values, maps)
@@ -618,8 +620,15 @@ class MomSolver:
         k = 2.0 * math.pi * freq_hz / C0_M_PER_S
         g = self._midpoint_kernel(k)
         corr_a, corr_p = self._correction_values(g, (self._sing.full(k), self._near.full(k)))
-        a_mat = self._assemble(g, 1.0, 0.0, corr_a, np.zeros_like(corr_p))
-        phi_mat = self._assemble(g, 0.0, 1.0, np.zeros_like(corr_a), corr_p)
+        *a_parts, phi_mat = self._congruences(self._far_phi[0], [w for _, w in self._far_a] + [self._far_phi[1]], g)
+        a_mat = a_parts[0]
+        for part in a_parts[1:]:
+            a_mat += part
+        for z, pattern, values, maps in ((a_mat, self._pat_a, corr_a, self._corr_a),
+                                         (phi_mat, self._pat_phi, corr_p, [self._corr_phi])):
+            if values.shape[0]:
+                c = self._sparse_basis(pattern, values, maps)
+                z[c.row, c.col] += c.data
         return a_mat, phi_mat
 
     def impedance_matrix(self, freq_hz: float) -> np.ndarray:
@@ -644,8 +653,9 @@ class MomSolver:
             # potential, so a single-precision exp(-jkR)/R would not be accurate enough)
             a_static, phi_static = self._static_far
             z = self._assemble(self._far_dynamic_kernel(k), jwmu, inv_jweps, corr_a, corr_p)
-            z += jwmu * a_static
-            z += inv_jweps * phi_static
+            static = a_static * (omega * MU0_H_PER_M)  # both scales are imaginary: add to Im(Z)
+            static -= phi_static * (1.0 / (omega * EPS0_F_PER_M))
+            z.imag += static
         if self._slab is not None:
             z += self._slab_phi * inv_jweps
         return z
@@ -655,8 +665,8 @@ class MomSolver:
         """Basis-level midpoint-rule ``A`` and ``Phi`` of the static kernel ``1/(4 pi R)``."""
         if "static" not in self._basis_parts:
             empty_a, empty_p = np.zeros(self._pat_a[2].shape[0]), np.zeros(self._pat_phi[2].shape[0])
-            self._basis_parts["static"] = (self._assemble(self._inv_4pi_r_mid, 1.0, 0.0, empty_a, empty_p),
-                                           self._assemble(self._inv_4pi_r_mid, 0.0, 1.0, empty_a, empty_p))
+            self._basis_parts["static"] = (self._assemble(self._inv_4pi_r_mid, 1.0, 0.0, empty_a, empty_p).real.copy(),
+                                           self._assemble(self._inv_4pi_r_mid, 0.0, 1.0, empty_a, empty_p).real.copy())
         return self._basis_parts["static"]
 
     def _far_dynamic_kernel(self, k_rad_per_m: float) -> np.ndarray:

@@ -331,8 +331,12 @@ def solve_case(case: dict[str, Any], level: str, keep: bool = False) -> dict[str
     log_path = sim_path / "openems_stdout.log"
     log(f"{name}/{level}: running openEMS ({NUM_THREADS} thread), log {log_path}")
     t0 = time.monotonic()
-    with _StdoutToFile(log_path):
-        fdtd.Run(str(sim_path), cleanup=False, verbose=1, numThreads=NUM_THREADS)
+    cwd = os.getcwd()  # openEMS's Run changes the working directory to sim_path
+    try:
+        with _StdoutToFile(log_path):
+            fdtd.Run(str(sim_path), cleanup=False, verbose=1, numThreads=NUM_THREADS)
+    finally:
+        os.chdir(cwd)
     wall_s = time.monotonic() - t0
     text = log_path.read_text(errors="replace")
     steps_match = re.findall(r"Time for (\d+) iterations", text)
@@ -449,6 +453,7 @@ def main(argv: list[str] | None = None) -> int:
     parser.add_argument("--mesh-only", action="store_true", help="print mesh sizes, no solve")
     args = parser.parse_args(argv)
     cases = load_cases() if args.all else [case_by_name(n) for n in args.case]
+    args.out = args.out.resolve()
     args.out.mkdir(parents=True, exist_ok=True)
     for case in cases:
         if args.mesh_only:
