@@ -127,3 +127,18 @@ def test_unwritable_output_is_one_line_error(tmp_path: Path) -> None:
     result = CliRunner().invoke(main, ["build", str(SOIL), "-o", str(blocker / "sub")])
     assert result.exit_code == 2
     assert len(result.stderr.strip().splitlines()) == 1
+
+
+def test_shipped_data_found_from_a_plain_checkout() -> None:
+    """Without footgen installed (isolated interpreter, only the checkout on sys.path), the schema
+    and templates are found beside the package: the Quick start runs in the repo root."""
+    import subprocess
+    import sys
+
+    code = (
+        "import sys; sys.path.insert(0, sys.argv[1]); from footgen.resources import shipped; "
+        "print(shipped('schemas').joinpath('footgen-spec-v1.schema.json').is_file(), "
+        "sorted(p.name for p in shipped('templates').iterdir() if p.name.endswith('.json'))[:1])"
+    )
+    out = subprocess.run([sys.executable, "-I", "-S", "-c", code, str(ROOT)], capture_output=True, text=True, check=True)
+    assert out.stdout.strip() == "True ['ism-2g4-meander.json']"
