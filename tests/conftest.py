@@ -80,3 +80,22 @@ def footgen_cmd() -> list[str]:
 
 def run_cli(args: list[str], cwd: Path | None = None) -> subprocess.CompletedProcess:
     return subprocess.run(footgen_cmd() + args, capture_output=True, text=True, cwd=cwd, timeout=600)
+
+
+NEC2_RUNNER_PATH = Path(__file__).resolve().parent / "data" / "mom" / "nec2_wire_runner.py"
+
+
+def load_nec2_runner():
+    """The nec2++ reference runner module (needs PyPI PyNEC, a test dependency)."""
+    import importlib.util
+
+    pytest.importorskip("PyNEC")
+    spec = importlib.util.spec_from_file_location("nec2_wire_runner", NEC2_RUNNER_PATH)
+    module = importlib.util.module_from_spec(spec)
+    write_bytecode = sys.dont_write_bytecode
+    sys.dont_write_bytecode = True  # keep tests/data free of __pycache__
+    try:
+        spec.loader.exec_module(module)
+    finally:
+        sys.dont_write_bytecode = write_bytecode
+    return module

@@ -186,26 +186,32 @@ def test_openems_mesh_resolves_the_model(case: dict, level: str) -> None:
     assert in_gap - 1 >= MIN_CELLS_ACROSS_PORT_GAP
 
 
-def test_mesh_convergence_of_stored_results() -> None:
-    """Every stored coarse-mesh rerun agrees with the stored result of the same case inputs."""
-    coarse_paths = sorted(CONVERGENCE_DIR.glob("*_coarse.json"))
-    assert coarse_paths, f"no coarse-mesh convergence records in {CONVERGENCE_DIR}"
-    for path in coarse_paths:
-        with open(path, encoding="utf-8") as handle:
-            coarse = json.load(handle)
-        name = coarse["case"]["name"]
-        stored = _result(name)
-        assert coarse["case"] == stored["case"], f"{path.name} is stale"
-        assert coarse["metadata"]["cells"] < stored["metadata"]["cells"]
-        f_fine = stored["derived"]["f_res_hz"]
-        f_coarse = coarse["derived"]["f_res_hz"]
-        # source: openEMS 0.0.35 (Debian package, FDTD) on two meshes of the same model
-        assert f_coarse == pytest.approx(f_fine, rel=MESH_CONVERGENCE_REL_TOL), name
-        band_f, band_c = stored["derived"]["band_10db_hz"], coarse["derived"]["band_10db_hz"]
-        assert (band_f is None) == (band_c is None), name
-        if band_f is not None:
-            for key in ("f_lo_hz", "f_hi_hz"):
-                assert band_c[key] == pytest.approx(band_f[key], rel=MESH_CONVERGENCE_BAND_REL_TOL)
+COARSE_RECORDS = sorted(CONVERGENCE_DIR.glob("*_coarse.json"))
+
+
+def test_convergence_records_exist() -> None:
+    assert COARSE_RECORDS, f"no coarse-mesh convergence records in {CONVERGENCE_DIR}"
+
+
+@pytest.mark.parametrize("path", COARSE_RECORDS, ids=[p.stem for p in COARSE_RECORDS])
+def test_mesh_convergence_of_stored_result(path: Path) -> None:
+    """A stored coarse-mesh solve agrees with the stored (finer) result of the same case inputs."""
+    with open(path, encoding="utf-8") as handle:
+        coarse = json.load(handle)
+    name = coarse["case"]["name"]
+    stored = _result(name)
+    assert coarse["case"] == stored["case"], f"{path.name} is stale"
+    assert coarse["metadata"]["cells"] < stored["metadata"]["cells"], "stored result is not finer"
+    f_fine = stored["derived"]["f_res_hz"]
+    f_coarse = coarse["derived"]["f_res_hz"]
+    # source: openEMS 0.0.35 (Debian package, FDTD) on two meshes of the same model
+    assert f_coarse == pytest.approx(f_fine, rel=MESH_CONVERGENCE_REL_TOL), (
+        f"{name}: coarse {f_coarse / 1e6:.1f} MHz vs stored {f_fine / 1e6:.1f} MHz")
+    band_f, band_c = stored["derived"]["band_10db_hz"], coarse["derived"]["band_10db_hz"]
+    assert (band_f is None) == (band_c is None), name
+    if band_f is not None:
+        for key in ("f_lo_hz", "f_hi_hz"):
+            assert band_c[key] == pytest.approx(band_f[key], rel=MESH_CONVERGENCE_BAND_REL_TOL)
 
 
 def test_predicted_resonance_within_3_percent_of_openems(record_property) -> None:

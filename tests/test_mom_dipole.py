@@ -26,7 +26,7 @@ from footgen.physics.mom import (
     slab_static_image_weights,
 )
 
-RUNNER_PATH = Path(__file__).parent / "data" / "mom" / "nec2_wire_runner.py"
+from conftest import load_nec2_runner
 
 WAVELENGTH_M = 1.0
 F_HALF_WAVE_HZ = C0_M_PER_S / WAVELENGTH_M  # L = lambda / 2 at this frequency
@@ -52,17 +52,6 @@ RECIPROCITY_REL_TOL = 1e-9
 KCL_REL_TOL = 1e-12
 
 
-def _load_runner():
-    pytest.importorskip("PyNEC")
-    spec = importlib.util.spec_from_file_location("nec2_wire_runner", RUNNER_PATH)
-    module = importlib.util.module_from_spec(spec)
-    write_bytecode = sys.dont_write_bytecode
-    sys.dont_write_bytecode = True  # keep tests/data free of __pycache__
-    try:
-        spec.loader.exec_module(module)
-    finally:
-        sys.dont_write_bytecode = write_bytecode
-    return module
 
 
 def dipole(radius_m: float, n_segments: int = DIPOLE_SEGMENTS, length_m: float = DIPOLE_LENGTH_M) -> WireModel:
@@ -93,7 +82,7 @@ def test_dipole_resonates_slightly_below_half_wave() -> None:
 
 
 def test_dipole_matches_nec2_over_sweep() -> None:
-    runner = _load_runner()
+    runner = load_nec2_runner()
     model = dipole(NEC2_DIPOLE_RADIUS_M)
     freqs = np.linspace(0.6, 1.4, 9) * F_HALF_WAVE_HZ
     ours = MomSolver(model).sweep_direct(freqs)
@@ -104,7 +93,7 @@ def test_dipole_matches_nec2_over_sweep() -> None:
 
 
 def test_t_junction_matches_nec2() -> None:
-    runner = _load_runner()
+    runner = load_nec2_runner()
     a = 2e-4
     wires = (
         Wire((0.0, 0.0, -0.25), (0.0, 0.0, 0.0), 20, a),

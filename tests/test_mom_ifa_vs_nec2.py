@@ -16,7 +16,8 @@ from footgen.physics.mom import MomSolver, Wire, WireModel
 from footgen.physics.predict import min_s11_frequency_hz, s11_from_zin
 from footgen.physics.wires import DETAIL_SEGMENTS, MeshControl, ifa_wire_model
 
-RUNNER_PATH = Path(__file__).parent / "data" / "mom" / "nec2_wire_runner.py"
+from conftest import load_nec2_runner
+
 MM = 1e-3
 
 # Task requirements (brief): f_res within 1 %, |Zin| within 5 % of nec2++.
@@ -35,19 +36,6 @@ SWEEP_HZ = (1.9e9, 2.4e9, 26)
 FINE_POINTS = 13
 
 
-def _load_runner():
-    pytest.importorskip("PyNEC")
-    spec = importlib.util.spec_from_file_location("nec2_wire_runner", RUNNER_PATH)
-    module = importlib.util.module_from_spec(spec)
-    write_bytecode = sys.dont_write_bytecode
-    sys.dont_write_bytecode = True  # keep tests/data free of __pycache__
-    try:
-        spec.loader.exec_module(module)
-    finally:
-        sys.dont_write_bytecode = write_bytecode
-    return module
-
-
 def free_space_wire_ifa() -> WireModel:
     """Wire IFA (invented test geometry) over a 40 mm x 40 mm wire-grid ground.
 
@@ -55,22 +43,9 @@ def free_space_wire_ifa() -> WireModel:
     jump when the source segment touches a multi-wire junction (we measured ~10 % in |Zin| on this
     model), so the shared model keeps the source one segment away from the ground-edge junction.
     """
-    model = ifa_wire_model(_comparison_ifa(), SWEEP_HZ[1], with_laminate=False, with_loss=False)
+    model = ifa_wire_model(load_nec2_runner().comparison_ifa(), SWEEP_HZ[1], with_laminate=False, with_loss=False)
     wires = tuple(Wire(w.start_m, w.end_m, w.n_segments, UNIFORM_RADIUS_M) for w in model.wires)
     return dataclasses.replace(model, wires=wires, source_wire=1, source_segment=0)
-
-
-def _comparison_ifa() -> PrintedIfa:
-    return PrintedIfa(
-        arm_path_m=((-14 * MM, 3 * MM), (18 * MM, 3 * MM)),
-        feed_x_m=-12 * MM,
-        short_x_m=-14 * MM,
-        trace_width_m=0.4 * MM,
-        short_width_m=0.4 * MM,
-        port_gap_m=0.8 * MM,
-        ground=GroundPlane(x_min_m=-20 * MM, x_max_m=20 * MM, length_m=40 * MM),
-        laminate=Laminate(eps_r=1.0, thickness_m=1.6 * MM),
-    )
 
 
 def test_comparison_model_is_in_nec2_validity_range() -> None:
@@ -88,7 +63,7 @@ def _resonance(freqs: np.ndarray, zin: np.ndarray) -> tuple[float, complex]:
 
 
 def test_wire_ifa_resonance_and_zin_match_nec2() -> None:
-    runner = _load_runner()
+    runner = load_nec2_runner()
     model = free_space_wire_ifa()
     solver = MomSolver(model)
     freqs = np.linspace(*SWEEP_HZ)
@@ -113,7 +88,7 @@ def test_our_zin_is_converged_under_feed_refinement() -> None:
     """Self-consistency (no outside source): refining the antenna segments by 1.5x moves our
     |Zin| by less than 1 % on the comparison model."""
     base = free_space_wire_ifa()
-    ifa_fine = dataclasses.replace(_comparison_ifa())
+    ifa_fine = dataclasses.replace(load_nec2_runner().comparison_ifa())
     fine = ifa_wire_model(ifa_fine, SWEEP_HZ[1], with_laminate=False, with_loss=False,
                           control=MeshControl(SWEEP_HZ[1], detail_segments=1.5 * DETAIL_SEGMENTS))
     fine = dataclasses.replace(fine, wires=tuple(Wire(w.start_m, w.end_m, w.n_segments, UNIFORM_RADIUS_M) for w in fine.wires),

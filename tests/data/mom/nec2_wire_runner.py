@@ -9,9 +9,26 @@ from __future__ import annotations
 import numpy as np
 import PyNEC
 
+from footgen.physics.ifa import GroundPlane, Laminate, PrintedIfa
 from footgen.physics.mom import WireModel
 
 HZ_PER_MHZ = 1e6
+MM = 1e-3
+
+
+def comparison_ifa() -> PrintedIfa:
+    """Invented free-space wire IFA over a 40 mm x 40 mm ground, shared by the nec2++ tests and
+    benchmarks/solver_vs_nec2.py (demo geometry, not a vendor design)."""
+    return PrintedIfa(
+        arm_path_m=((-14 * MM, 3 * MM), (18 * MM, 3 * MM)),
+        feed_x_m=-12 * MM,
+        short_x_m=-14 * MM,
+        trace_width_m=0.4 * MM,
+        short_width_m=0.4 * MM,
+        port_gap_m=0.8 * MM,
+        ground=GroundPlane(x_min_m=-20 * MM, x_max_m=20 * MM, length_m=40 * MM),
+        laminate=Laminate(eps_r=1.0, thickness_m=1.6 * MM),
+    )
 
 
 def _context(model: WireModel) -> PyNEC.nec_context:
