@@ -18,6 +18,7 @@ for _var in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS"):
     os.environ.setdefault(_var, "1")
 
 import dataclasses  # noqa: E402
+import functools  # noqa: E402
 import importlib.util  # noqa: E402
 import sys  # noqa: E402
 import time  # noqa: E402

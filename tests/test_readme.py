@@ -1,0 +1,47 @@
+"""README promises: the Quick start block, the CI entry point, and the measure-retune loop as
+printed in README, run command by command on the bundled (invented) measurement."""
+
+from __future__ import annotations
+
+import re
+import shlex
+import shutil
+import subprocess
+import sys
+from pathlib import Path
+
+from conftest import ROOT
+
+README = (ROOT / "README.md").read_text("utf-8")
+
+
+def _code_block_after(heading: str) -> list[str]:
+    section = README.split(heading, 1)[1]
+    block = re.search(r"```\n(.*?)```", section, re.S)
+    assert block, f"no code block after {heading!r}"
+    return [line for line in block.group(1).splitlines() if line.strip()]
+
+
+def test_quick_start_is_two_commands_and_ci_runs_the_second() -> None:
+    lines = _code_block_after("## Quick start")
+    assert len(lines) == 2
+    assert "footgen build examples/" in lines[0]
+    ci = (ROOT / ".ci" / "run").read_text("utf-8")
+    assert lines[1] in ci
+    assert README.lstrip().startswith("# footgen\n\nfootgen turns")  # the job paragraph comes first
+
+
+def test_readme_loop_runs_as_printed(tmp_path: Path) -> None:
+    shutil.copytree(ROOT / "examples", tmp_path / "examples", ignore=shutil.ignore_patterns("wren-probe-board"))
+    commands = _code_block_after("## After the first prototype")
+    assert [c.split()[3] for c in commands] == ["retune", "diff", "match", "report"]
+    for command in commands:
+        args = shlex.split(command)
+        assert args[:3] == ["python3", "-m", "footgen"]
+        proc = subprocess.run([sys.executable, "-m", "footgen", *args[3:]], cwd=tmp_path, capture_output=True, text=True, timeout=900)
+        assert proc.returncode == 0, (command, proc.stderr[-2000:])
+    assert (tmp_path / "soil-r2.json").is_file()
+    assert list((tmp_path / "build-r2").rglob("*.kicad_mod"))
+    assert (tmp_path / "r1-r2.svg").is_file()
+    report = next((tmp_path / "report-r2").glob("*.report.md")).read_text("utf-8")
+    assert "revision 2" in report and "RF-exposure" in report
