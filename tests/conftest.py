@@ -14,6 +14,11 @@ import sys
 from pathlib import Path
 
 import pytest
+from hypothesis import settings
+
+# No example database in the source tree (.hypothesis/): tests never write there.
+settings.register_profile("footgen", database=None)
+settings.load_profile("footgen")
 
 ROOT = Path(__file__).resolve().parent.parent
 EXAMPLES = sorted((ROOT / "examples").glob("*.json"))
