@@ -3,9 +3,12 @@
 from __future__ import annotations
 
 import os
+import tempfile
 
 # Small dense solves: one BLAS thread is faster (and the machine has two cores); before numpy loads.
 os.environ.setdefault("OPENBLAS_NUM_THREADS", "1")
+# Hypothesis keeps caches in ./.hypothesis by default: put them in the temp folder instead.
+os.environ.setdefault("HYPOTHESIS_STORAGE_DIRECTORY", os.path.join(tempfile.gettempdir(), "footgen-hypothesis"))
 
 import json  # noqa: E402
 import shutil
