@@ -36,5 +36,6 @@ fi
 echo "== installing footgen and its test dependencies"
 "$venv/bin/python" -m pip install -q --disable-pip-version-check -c scripts/test-constraints.txt -e ".[test]"
 export OPENBLAS_NUM_THREADS=${OPENBLAS_NUM_THREADS:-1}  # small dense solves: one BLAS thread is faster
+export PYTHONDONTWRITEBYTECODE=1  # no __pycache__ folders in the source tree
 echo "== running the tests"
 exec "$venv/bin/python" -m pytest "$@"

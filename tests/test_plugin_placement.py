@@ -496,6 +496,10 @@ os._exit(0)
 """
 
 
+#: Starts of the virtual display tried before the dialog test gives up on Xvfb.
+XVFB_ATTEMPTS = 3
+
+
 @pytest.mark.kicad
 def test_the_action_regenerates_through_its_dialogs(placed: dict, tmp_path: Path) -> None:
     """The whole toolbar action (pcbnew 9 + wxPython 4.2 under Xvfb): the form opens on the
@@ -513,13 +517,21 @@ def test_the_action_regenerates_through_its_dialogs(placed: dict, tmp_path: Path
     (before,) = _describe(board, tmp_path)
     driver = tmp_path / "gui.py"
     driver.write_text(RUN_ACTION_HEADLESS, "utf-8")
-    proc = subprocess.Popen(["xvfb-run", "-a", kicad_python(), str(driver), str(board)], stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, env=_env(tmp_path), start_new_session=True)
-    try:
-        out, err = proc.communicate(timeout=GUI_KILL_S)
-    except subprocess.TimeoutExpired:
-        os.killpg(proc.pid, signal.SIGKILL)  # xvfb-run, Xvfb and the driver: its own session
-        out, err = proc.communicate()
-        pytest.fail(f"the action's dialogs did not finish within {GUI_KILL_S} s:\n{err[-3000:]}")
+    for _attempt in range(XVFB_ATTEMPTS):
+        proc = subprocess.Popen(
+            ["xvfb-run", "-a", "-s", "-screen 0 1280x1024x24", kicad_python(), str(driver), str(board)],
+            stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, env=_env(tmp_path), start_new_session=True,
+        )
+        try:
+            out, err = proc.communicate(timeout=GUI_KILL_S)
+        except subprocess.TimeoutExpired:
+            os.killpg(proc.pid, signal.SIGKILL)  # xvfb-run, Xvfb and the driver: its own session
+            out, err = proc.communicate()
+            pytest.fail(f"the action's dialogs did not finish within {GUI_KILL_S} s:\n{err[-3000:]}")
+        # The virtual display itself sometimes is not up yet when wx connects (seen once in a
+        # full run on a loaded machine): that, and only that, is retried.
+        if proc.returncode == 0 or "wxEntryStart failed" not in err:
+            break
     assert proc.returncode == 0, err[-3000:]
     seen = json.loads(out.strip().splitlines()[-1])
     assert [d["title"] for d in seen] == ["footgen: printed IFA antenna", "footgen: printed IFA antenna: result"]
