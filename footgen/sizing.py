@@ -133,9 +133,7 @@ def min_spacing_mm(spec: Spec) -> float:
     feed pad and the ground pad, and the feed copper and the via holes."""
     c = spec.fab.min_clearance_mm
     w, ws = spec.trace_width_mm, spec.short.stub_width_mm
-    via_d = spec.short.via_drill_mm + 2 * spec.short.via_annular_ring_mm if spec.short.via_count else 0.0
-    pad2_w = max(ws, via_d)
-    return max((w + ws) / 2, (spec.feed.pad_width_mm + pad2_w) / 2, spec.feed.pad_width_mm / 2 + spec.short.via_drill_mm / 2) + c
+    return max((w + ws) / 2, (spec.feed.pad_width_mm + spec.short.pad_span_mm) / 2, spec.feed.pad_width_mm / 2 + spec.short.via_drill_mm / 2) + c
 
 
 class _Evaluator:

@@ -100,6 +100,16 @@ class ShortSpec:
     via_drill_mm: float
     via_annular_ring_mm: float
 
+    @property
+    def via_diameter_mm(self) -> float:
+        """Copper diameter of one shunt via (drill plus two annular rings)."""
+        return self.via_drill_mm + 2 * self.via_annular_ring_mm
+
+    @property
+    def pad_span_mm(self) -> float:
+        """Width the ground pad needs: the stub or, with vias, the larger of stub and via."""
+        return max(self.stub_width_mm, self.via_diameter_mm if self.via_count else 0.0)
+
 
 @dataclass(frozen=True)
 class GroundPlaneSpec:
@@ -396,7 +406,7 @@ def _cross_checks(spec: Spec) -> None:
     for number, _ in spec.history:
         if number > spec.revision:
             raise SpecError("$.history", number, f"history names revision {number}, above revision {spec.revision}")
-    via_span = spec.short.via_drill_mm + 2 * spec.short.via_annular_ring_mm
+    via_span = spec.short.via_diameter_mm
     if spec.short.via_count and via_span > cl.width_mm:
         raise SpecError("$.short.via_drill_mm", spec.short.via_drill_mm, "the via does not fit the clearance width")
     style = spec.style

@@ -102,8 +102,6 @@ class Layout:
     silk: tuple[LineString, ...]
     feed_point: tuple[float, float]
     dims: dict[str, float] = field(default_factory=dict)
-    via_drill_mm: float = 0.0
-    via_diameter_mm: float = 0.0
 
     @property
     def vias(self) -> tuple[PadShape, ...]:
@@ -214,8 +212,7 @@ def ground_x_range_mm(spec: Spec, feed_short_spacing_mm: float) -> tuple[float, 
 def _check_ground_under_legs(spec: Spec, s: float) -> None:
     """The short must land on the ground and the feed pad sit in it: refuse a ground plane that
     does not reach under both."""
-    via_d = spec.short.via_drill_mm + 2 * spec.short.via_annular_ring_mm if spec.short.via_count else 0.0
-    need_lo = -s - max(spec.short.stub_width_mm, via_d) / 2 - spec.fab.min_clearance_mm
+    need_lo = -s - spec.short.pad_span_mm / 2 - spec.fab.min_clearance_mm
     need_hi = spec.feed.pad_width_mm / 2 + spec.feed.port_gap_mm + spec.fab.min_clearance_mm
     gx0, gx1 = ground_x_range_mm(spec, s)
     if gx0 > need_lo + 1e-9 or gx1 < need_hi - 1e-9:
@@ -253,11 +250,11 @@ def canonical_layout(spec: Spec, sizing: Sizing) -> Layout:
     # Ground pad (pad 2) below the short leg, holding the shunt vias in a column.  The short leg
     # (part of pad 1's copper) overlaps pad 2 by SHORT_ROOT_OVERLAP_MM; the via holes keep the
     # fab clearance from it (KiCad checks copper-to-hole clearance even inside a net tie).
-    via_d = short.via_drill_mm + 2 * short.via_annular_ring_mm
+    via_d = short.via_diameter_mm
     pitch = max(via_d, short.via_drill_mm + fab.min_hole_to_hole_mm)
     n = short.via_count
     first_via_y = -(SHORT_ROOT_OVERLAP_MM + fab.min_clearance_mm + short.via_drill_mm / 2)
-    pad2_w = max(short.stub_width_mm, via_d if n else 0.0)
+    pad2_w = short.pad_span_mm
     pad2_len = max(pl, -first_via_y + (n - 1) * pitch + via_d / 2 if n else 0.0)
     pad2_center = (-s, -pad2_len / 2)
     pads = [
@@ -319,8 +316,6 @@ def canonical_layout(spec: Spec, sizing: Sizing) -> Layout:
         silk=silk,
         feed_point=(0.0, 0.0),
         dims=dims,
-        via_drill_mm=short.via_drill_mm,
-        via_diameter_mm=via_d,
     )
 
 
