@@ -40,4 +40,5 @@ def printed_ifa(spec: Spec, copper: IfaCopper) -> PrintedIfa:
             loss_tangent=spec.laminate.loss_tangent,
             copper_thickness_m=spec.laminate.copper_thickness_mm * MM,
         ),
+        board_edge_y_m=(spec.clearance.depth_mm + spec.clearance.edge_distance_mm) * MM,
     )

@@ -69,10 +69,12 @@ def _curve(result: dict) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
 
 
 def test_case_set_is_as_specified() -> None:
-    """At least 6 cases, >= 4 straight and >= 2 meandered, exactly 2 development cases."""
+    """At least 6 cases, >= 4 straight and >= 2 meandered; development and validation roles only,
+    at least 4 validation cases (held out) and at least 2 meandered among them."""
     roles = [c["role"] for c in CASES]
-    assert roles.count("development") == 2
-    assert roles.count("validation") == len(CASES) - 2
+    assert set(roles) == {"development", "validation"}
+    assert roles.count("validation") >= 4
+    assert sum(len(c["arm_path_mm"]) > 2 for c in VALIDATION) >= 2
     n_meander = sum(len(c["arm_path_mm"]) > 2 for c in CASES)
     assert len(CASES) >= 6 and n_meander >= 2 and len(CASES) - n_meander >= 4
     assert len(set(CASE_IDS)) == len(CASE_IDS)
@@ -245,21 +247,6 @@ def _validation_errors() -> list[tuple[str, float, float, float]]:
     return rows
 
 
-#: Regression guard at the level measured when the validation set was first run (worst -4.65 %):
-#: not the accuracy target (that is RESONANCE_REL_TOL), only a stop against getting worse.
-RESONANCE_REGRESSION_GUARD = 0.05
-
-
-def test_validation_error_does_not_get_worse() -> None:
-    rows = _validation_errors()
-    # source: openEMS 0.0.35 (Debian package, FDTD) stored results, f at min |S11|
-    assert max(abs(r[3]) for r in rows) <= RESONANCE_REGRESSION_GUARD, rows
-
-
-@pytest.mark.xfail(
-    strict=True,
-    reason="known miss, issue open: worst validation error -4.65 % (val_straight_c, also -4.11 % val_straight_a) against +-3 %",
-)
 def test_predicted_resonance_within_3_percent_of_openems(record_property) -> None:
     """footgen's resonance prediction vs openEMS full-wave, on the held-out validation cases."""
     rows = _validation_errors()
@@ -285,3 +272,36 @@ def test_coarse_rerun_reproduces_stored_result(tmp_path: Path) -> None:
     # source: openEMS 0.0.35 (Debian package, FDTD), same model on the coarse mesh
     assert f_rerun == pytest.approx(f_stored, rel=COARSE_RERUN_REL_TOL)
     assert rerun["case"] == stored["case"]
+
+
+#: The board-edge model (footgen.physics.board_edge) must reproduce openEMS's resonance shift
+#: between the same antenna on a laminate ending 2 mm and 15 mm beyond its copper within this
+#: fraction of that shift (development pair; measured 1.54 % against openEMS 1.78 %).
+BOARD_EDGE_SHIFT_REL_TOL = 0.25
+BOARD_EDGE_PAIR = ("dev_straight_16", "dev_straight_16_wide")
+
+
+def test_board_edge_shift_matches_openems() -> None:
+    """Moving the board edge away from the arm lowers the resonance by what openEMS says."""
+    from footgen.physics.predict import resonance_hz
+
+    near, far = (ifa_cases.case_by_name(n) for n in BOARD_EDGE_PAIR)
+    assert {k: v for k, v in near.items() if k not in ("name", "board_margin_mm")} == {
+        k: v for k, v in far.items() if k not in ("name", "board_margin_mm")}
+    ours = [resonance_hz(ifa_cases.case_to_ifa(c), *ifa_cases.sweep_band_hz(c)) for c in (near, far)]
+    ref = [_result(c["name"])["derived"]["f_res_hz"] for c in (near, far)]
+    shift_ours, shift_ref = ours[0] / ours[1] - 1.0, ref[0] / ref[1] - 1.0
+    # source: openEMS 0.0.35 (Debian package, FDTD), the two stored development results
+    assert shift_ref > 0.005  # the pair does measure a board-edge effect
+    assert shift_ours == pytest.approx(shift_ref, rel=BOARD_EDGE_SHIFT_REL_TOL), (shift_ours, shift_ref)
+
+
+#: The issue's goal (+-2 %) is tighter than its requirement (+-3 %, asserted above).
+RESONANCE_GOAL_REL_TOL = 0.02
+
+
+@pytest.mark.xfail(strict=True, reason="known miss of the +-2 % goal: worst +2.29 % (val_meander_a), -2.23 % (val_straight_a)")
+def test_predicted_resonance_within_the_2_percent_goal() -> None:
+    rows = _validation_errors()
+    # source: openEMS 0.0.35 (Debian package, FDTD) stored results, f at min |S11|
+    assert max(abs(r[3]) for r in rows) <= RESONANCE_GOAL_REL_TOL, rows

@@ -5,7 +5,8 @@ on ``y = 0``; the antenna copper lies at ``y > 0`` in the clearance.  The feed l
 ground edge at ``x = feed_x_m``, the short leg at ``x = short_x_m``; both end on the arm, whose
 centreline ``arm_path_m`` starts above the short leg, passes above the feed leg and ends at the
 open end (it may be meandered: any polyline of axis-parallel segments).  The geometry layer builds
-this from a layout; physics never sees millimetres.
+this from a layout; physics never sees millimetres.  The laminate lies under the ground and the
+clearance and ends at the board edge ``y = board_edge_y_m`` beyond the antenna (if given).
 """
 
 from __future__ import annotations
@@ -49,6 +50,9 @@ class PrintedIfa:
     port_gap_m: float
     ground: GroundPlane
     laminate: Laminate
+    #: The board edge beyond the antenna (the laminate ends at ``y = board_edge_y_m``); ``None``:
+    #: the laminate reaches far beyond the copper.  See :mod:`footgen.physics.board_edge`.
+    board_edge_y_m: float | None = None
 
     @property
     def height_m(self) -> float:

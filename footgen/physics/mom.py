@@ -15,14 +15,15 @@ of Moments in Electromagnetics", 2nd ed. 2014, ch. 3 and 5):
   pairs the segment-midpoint rule (its first-order error cancels within each triangle).
 * Assembly: the far (midpoint-rule) part as congruences ``M G M^T`` of the segment-midpoint
   kernel with two-entry-per-row half-to-basis maps, the close pairs as a sparse correction
-  (accurate minus midpoint) mapped to basis level by sparse products; double precision.  Repeated
-  fills of one geometry (direct sweeps) keep the static far part ``1/R`` once in double precision
-  and fill only the bounded dynamic part ``(exp(-jkR) - 1)/R`` per frequency in single precision
+  (accurate minus midpoint) mapped to basis level by sparse products; double precision.  Fills
+  keep the static far part ``1/R`` once per geometry in double precision and fill only the
+  bounded dynamic part ``(exp(-jkR) - 1)/R`` per frequency in single precision
   (a single-precision ``exp(-jkR)/R`` would not do: the Phi term is ~1/(kl)^2 larger than A).
 * Slab image potential: tabulated once per model on a grid uniform in ``asinh(R / z_1)`` and
   interpolated linearly (relative error < SLAB_TABLE_REL_TOL against the direct image sum).
-* Solve: LAPACK via numpy (LU) or, for >= SYM_SOLVE_MIN_UNKNOWNS, scipy's complex-symmetric
-  LDL^T (Z is symmetric by reciprocity and Galerkin testing).
+* Solve: LAPACK LU via numpy, which releases the GIL, so sweeps run solves in worker threads
+  while the main thread fills the next matrices (scipy 1.17's complex-symmetric ``solve`` holds
+  the GIL and was no faster per solve at 960 unknowns on this machine, measured).
 * Delta-gap source: applied field ``V / l`` on one segment; ``Zin = V / I(segment centre)``,
   which equals ``V^2 / (v^T Z^-1 v)`` (variational).
 * Laminate: copper on the top face of a dielectric slab (free-standing, air on both sides).  The
@@ -49,7 +50,6 @@ from dataclasses import dataclass, field
 from functools import lru_cache
 
 import numpy as np
-import scipy.linalg
 import scipy.sparse as sp
 from scipy.linalg.blas import zaxpy
 
@@ -72,10 +72,9 @@ SLAB_TABLE_REL_TOL = 1e-5
 INTERP_PHASE_STEP_RAD = 1.0  # anchor spacing: (k_{i+1} - k_i) * max basis distance
 SOLVE_CHUNK = 16
 SWEEP_SOLVE_WORKERS = 2  # solver threads in sweeps (the machine target has 2 cores)
-SYM_SOLVE_MIN_UNKNOWNS = 500  # below this numpy's batched LU is as fast
 COPPER_CONDUCTIVITY_S_PER_M = 5.8e7
-# repeated fills of one geometry: the dynamic far part in single precision (the static part and
-# all close pairs stay double)
+# the dynamic far part of every fill in single precision (the static part and all close pairs
+# stay double)
 FAR_REAL = np.float32
 FAR_COMPLEX = np.complex64
 
@@ -453,7 +452,6 @@ class MomSolver:
         self._has_loss = bool(lossy.any())
         self._slab = self._slab_parts() if model.slab is not None else None
         self._basis_parts: dict[str, object] = {}
-        self._fills = 0
 
     # -- assembly helpers -------------------------------------------------------------------
     def _build_correction_patterns(self, n_seg: int) -> None:
@@ -636,26 +634,23 @@ class MomSolver:
         ``Z = j w mu0 A + (Phi + Phi_slab)/(j w eps0) + Z_loss``."""
         omega = 2.0 * math.pi * freq_hz
         k = omega / C0_M_PER_S
-        self._fills += 1
-        g = self._midpoint_kernel(k) if self._fills == 1 else None
-        corr_a, corr_p = self._correction_values(g if g is not None else k, (self._sing.full(k), self._near.full(k)))
+        corr_a, corr_p = self._correction_values(k, (self._sing.full(k), self._near.full(k)))
         jwmu, inv_jweps = 1j * omega * MU0_H_PER_M, 1.0 / (1j * omega * EPS0_F_PER_M)
         corr_a *= jwmu
         corr_p *= inv_jweps
         if self._has_loss:
             corr_a[: self._loss_self.size] += (1.0 + 1j) * self.surface_resistance_ohm(freq_hz) * self._loss_self.reshape(-1)
-        if g is not None:
-            z = self._assemble(g, jwmu, inv_jweps, corr_a, corr_p)
-        else:
-            # repeated fills of one geometry: the static far part 1/(4 pi R) once in double
-            # precision, per frequency only the bounded dynamic part (exp(-jkR) - 1)/(4 pi R) in
-            # single precision (the scalar-potential term is ~1/(kl)^2 larger than the vector
-            # potential, so a single-precision exp(-jkR)/R would not be accurate enough)
-            a_static, phi_static = self._static_far
-            z = self._assemble(self._far_dynamic_kernel(k), jwmu, inv_jweps, corr_a, corr_p)
-            static = a_static * (omega * MU0_H_PER_M)  # both scales are imaginary: add to Im(Z)
-            static -= phi_static * (1.0 / (omega * EPS0_F_PER_M))
-            z.imag += static
+        # the static far part 1/(4 pi R) once per geometry in double precision (real), per
+        # frequency only the bounded dynamic part (exp(-jkR) - 1)/(4 pi R) in single precision (the
+        # scalar-potential term is ~1/(kl)^2 larger than the vector potential, so a
+        # single-precision exp(-jkR)/R would not be accurate enough).  Even a single fill costs
+        # about what one double-precision complex fill does (two real passes plus one in single
+        # precision), and every further frequency of the geometry is cheaper (measured).
+        a_static, phi_static = self._static_far
+        z = self._assemble(self._far_dynamic_kernel(k), jwmu, inv_jweps, corr_a, corr_p)
+        static = a_static * (omega * MU0_H_PER_M)  # both scales are imaginary: add to Im(Z)
+        static -= phi_static * (1.0 / (omega * EPS0_F_PER_M))
+        z.imag += static
         if self._slab is not None:
             z += self._slab_phi * inv_jweps
         return z
@@ -692,12 +687,11 @@ class MomSolver:
 
     def currents(self, freq_hz: float) -> np.ndarray:
         """Basis-function current amplitudes (A) for 1 V at the source."""
-        z = self.impedance_matrix(freq_hz)
-        rhs = self._v.astype(complex)
-        if z.shape[0] >= SYM_SOLVE_MIN_UNKNOWNS:
-            # Galerkin Z is complex symmetric (reciprocity): LDL^T (zsysv) needs half the LU flops
-            return scipy.linalg.solve(z, rhs, assume_a="sym", check_finite=False, overwrite_a=True)
-        return np.linalg.solve(z, rhs)
+        return self._solve(self.impedance_matrix(freq_hz))
+
+    def _solve(self, z: np.ndarray) -> np.ndarray:
+        """Currents for the impedance matrix ``z`` (overwritten) and the source vector."""
+        return np.linalg.solve(z, self._v.astype(complex))
 
     @property
     def basis_distance_m(self) -> np.ndarray:
@@ -714,13 +708,24 @@ class MomSolver:
 
     # -- sweeps -----------------------------------------------------------------------------
     def sweep_direct(self, freqs_hz: np.ndarray, progress: Callable[[int, int], None] | None = None) -> np.ndarray:
-        """Zin at every frequency by a full fill and solve."""
+        """Zin at every frequency by a full fill and solve; with several frequencies worker
+        threads run the LAPACK solves while the next matrices are filled (both cores busy)."""
         freqs = np.asarray(freqs_hz, float)
         out = np.empty(freqs.shape[0], complex)
-        for i, f in enumerate(freqs):
-            out[i] = self.zin_ohm(float(f))
+        if freqs.shape[0] == 1:
+            out[0] = self.zin_ohm(float(freqs[0]))
             if progress is not None:
-                progress(i + 1, freqs.shape[0])
+                progress(1, 1)
+            return out
+        pending: list[tuple[int, Future]] = []
+        with ThreadPoolExecutor(max_workers=SWEEP_SOLVE_WORKERS) as pool:
+            for i, f in enumerate(freqs):
+                pending.append((i, pool.submit(self._solve, self.impedance_matrix(float(f)))))
+                while len(pending) > SWEEP_SOLVE_WORKERS or (pending and i == freqs.shape[0] - 1):
+                    j, fut = pending.pop(0)
+                    out[j] = 1.0 / (self._v @ fut.result())
+                    if progress is not None:
+                        progress(j + 1, freqs.shape[0])
         return out
 
     def anchor_frequencies(self, f_lo_hz: float, f_hi_hz: float) -> np.ndarray:
@@ -789,11 +794,7 @@ class MomSolver:
         v = self._v.astype(complex)
 
         def solve_batch(z_batch: np.ndarray) -> np.ndarray:
-            if n_b >= SYM_SOLVE_MIN_UNKNOWNS:
-                cur = np.stack([scipy.linalg.solve(zz, v, assume_a="sym", check_finite=False, overwrite_a=True)
-                                for zz in z_batch])
-            else:
-                cur = np.linalg.solve(z_batch, np.broadcast_to(v, (z_batch.shape[0], n_b))[..., None])[..., 0]
+            cur = np.linalg.solve(z_batch, np.broadcast_to(v, (z_batch.shape[0], n_b))[..., None])[..., 0]
             return 1.0 / (cur @ v)
 
         # the main thread assembles chunk after chunk (phase recurrence is sequential) while worker

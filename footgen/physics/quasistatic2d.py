@@ -1,8 +1,8 @@
 """2-D quasi-static solver for coplanar lines: capacitance per metre by finite volumes (SI units).
 
 Cross-section: zero-thickness conductors on the plane ``y = 0`` (intervals of ``x``, possibly
-semi-infinite), an optional dielectric slab ``-h < y < 0`` of infinite lateral extent, air
-everywhere else.  The Laplace equation ``div(eps grad V) = 0`` is discretised by the
+semi-infinite), an optional dielectric slab ``-h < y < 0`` of infinite lateral extent or ending at
+``x = slab_x_max_m`` (a board edge), air everywhere else.  The Laplace equation ``div(eps grad V) = 0`` is discretised by the
 five-point finite-volume scheme on a tensor grid graded geometrically away from every conductor
 edge and dielectric face, out to a box ``BOX_FACTOR`` times the structure's size whose walls are
 held at 0 V (the far-field truncation error falls like size/box).  The capacitance comes from
@@ -156,10 +156,12 @@ def _solve(
     eps_r: float,
     thickness_m: float | None,
     cells_per_feature: int,
+    slab_x_max_m: float | None = None,
 ) -> float:
     """Capacitance (F/m) on one grid: ``cells_per_feature`` cells across the smallest strip,
-    gap or slab next to the edges, box ``BOX_FACTOR`` times the largest size."""
-    finite = list(edges_m)
+    gap or slab next to the edges, box ``BOX_FACTOR`` times the largest size; the slab ends at
+    ``x = slab_x_max_m`` if given (that edge is a grid feature)."""
+    finite = list(edges_m) + ([slab_x_max_m] if slab_x_max_m is not None else [])
     sizes = np.diff(np.unique(finite)) if len(finite) > 1 else np.array([])
     slab_face = thickness_m is not None and math.isfinite(thickness_m)
     features = list(sizes) + ([thickness_m] if slab_face else [])
@@ -174,7 +176,11 @@ def _solve(
     eps_cells = np.ones((x.size - 1, y.size - 1))
     if thickness_m is not None:
         yc = 0.5 * (y[1:] + y[:-1])
-        eps_cells[:, (yc < 0.0) & (yc > -thickness_m)] = eps_r
+        in_slab = np.broadcast_to(((yc < 0.0) & (yc > -thickness_m))[None, :], eps_cells.shape)
+        if slab_x_max_m is not None:
+            xc = 0.5 * (x[1:] + x[:-1])
+            in_slab = in_slab & (xc < slab_x_max_m)[:, None]
+        eps_cells[in_slab] = eps_r
     return EPS0_F_PER_M * _energy_capacitance(grid, eps_cells, conductors)
 
 
@@ -183,6 +189,7 @@ def capacitance_coplanar_f_per_m(
     conductors: tuple[tuple[float, float, float], ...],
     eps_r: float,
     thickness_m: float | None,
+    slab_x_max_m: float | None = None,
 ) -> float:
     """Capacitance per metre (F/m) of coplanar conductors on ``y = 0``, Richardson-extrapolated
     from grids with ``FINE_CELLS_PER_FEATURE / 2`` and ``FINE_CELLS_PER_FEATURE`` cells across
@@ -192,9 +199,10 @@ def capacitance_coplanar_f_per_m(
     ``edges_m``: the finite conductor edges (grid features); ``thickness_m = None``: no slab,
     ``inf``: the dielectric fills the half-space ``y < 0``.
     With one conductor at 1 V and the rest at 0 V this is its capacitance to them.
+    ``slab_x_max_m``: the slab ends there (a board edge; ``None``: laterally infinite).
     """
-    coarse = _solve(edges_m, conductors, eps_r, thickness_m, FINE_CELLS_PER_FEATURE // 2)
-    fine = _solve(edges_m, conductors, eps_r, thickness_m, FINE_CELLS_PER_FEATURE)
+    coarse = _solve(edges_m, conductors, eps_r, thickness_m, FINE_CELLS_PER_FEATURE // 2, slab_x_max_m)
+    fine = _solve(edges_m, conductors, eps_r, thickness_m, FINE_CELLS_PER_FEATURE, slab_x_max_m)
     return 2.0 * fine - coarse
 
 
@@ -224,6 +232,22 @@ def strip_beside_ground_edge_capacitance_f_per_m(
         ((-math.inf, 0.0, 0.0), (gap_m, gap_m + width_m, 1.0)),
         eps_r,
         thickness_m,
+    )
+
+
+@functools.lru_cache(maxsize=CACHE_SIZE)
+def strip_beside_ground_edge_board_capacitance_f_per_m(
+    width_m: float, gap_m: float, eps_r: float, thickness_m: float, board_gap_m: float | None
+) -> float:
+    """Capacitance (F/m) of the strip ``[g, g + w]`` beside a ground half-plane ``x <= 0`` on a
+    slab that ends ``board_gap_m`` beyond the strip's far edge (``None``: laterally infinite)."""
+    edge = None if board_gap_m is None else gap_m + width_m + board_gap_m
+    return capacitance_coplanar_f_per_m(
+        (0.0, gap_m, gap_m + width_m),
+        ((-math.inf, 0.0, 0.0), (gap_m, gap_m + width_m, 1.0)),
+        eps_r,
+        thickness_m,
+        edge,
     )
 
 

@@ -3,12 +3,16 @@
 Copper centrelines become wires of equivalent radius ``a = w / 4`` for a flat strip of width ``w``
 (Balanis, "Antenna Theory", 4th ed., ch. 9, table of equivalent radii of conductors: thin flat
 strip ``a_e = 0.25 w``; from memory).  The ground plane becomes a wire grid of pitch
-``<= lambda / 10`` at the highest frequency (common practice for wire-grid surfaces, no source),
-refined near its radiating edge, with wire radius from the equal-area rule ``2 pi a = pitch``
-(Ludwig, "Wire grid modeling of surfaces", IEEE Trans. Antennas Propag. 35(9), 1987; from memory),
-capped so that segments stay >= 4 radii long.  Segments: antenna <= lambda / 40 and <= a quarter
+``<= lambda / 15`` at the highest frequency (wire-grid surfaces want <= lambda / 10, common practice,
+no source; the finer pitch is from our convergence study, below), refined towards its radiating
+edge, with wire radius from the equal-area rule ``2 pi a = s`` (Ludwig, "Wire grid modeling of
+surfaces", IEEE Trans. Antennas Propag. 35(9), 1987; from memory) applied with the local spacing
+``s`` of each grid line (the mean of its gaps to the neighbouring lines: fine rows near the edge get
+thin wires; a radius from the coarse pitch there made neighbouring wires overlap and the resonance
+jump by several per cent), capped so that segments stay >= 4 radii long.  Segments: antenna <= lambda / 40 and <= a quarter
 of the smallest feature but >= 4 trace radii; grid <= lambda / 20; the ground edge under the
-antenna at the antenna's segment length.  The delta-gap source is the one-segment wire
+antenna at the antenna's segment length.  A laminate ending at the board edge beyond the antenna
+enters as the equivalent laterally infinite slab of :mod:`footgen.physics.board_edge`.  The delta-gap source is the one-segment wire
 across the port gap between the ground edge and the feed leg.  All wires lie in ``z = 0``; the
 laminate is handed to the solver as a :class:`footgen.physics.mom.Slab` under the copper.
 
@@ -28,6 +32,7 @@ import numpy as np
 
 from footgen.constants import C0_M_PER_S
 from footgen.errors import SolverError
+from footgen.physics.board_edge import equivalent_laminate
 from footgen.physics.ifa import PrintedIfa
 from footgen.physics.mom import MIN_SEGMENT_TO_RADIUS, Slab, Wire, WireModel
 
@@ -35,9 +40,14 @@ STRIP_EQUIVALENT_RADIUS_FACTOR = 0.25  # a = w / 4, Balanis 4th ed. ch. 9 (from 
 SEGMENTS_PER_WAVELENGTH = 40.0  # segment <= lambda / 40 (stricter than the lambda / 20 rule)
 DETAIL_SEGMENTS = 4.0  # segments across the smallest antenna feature (height, leg spacing)
 GRID_SEGMENTS_PER_WAVELENGTH = 20.0  # grid segment <= lambda / 20 (task rule)
-GRID_PITCH_PER_WAVELENGTH = 10.0  # ground grid pitch <= lambda / 10 (common practice, no source)
-EDGE_ROW_FACTOR = 1.0  # first grid rows below the edge at this many antenna heights
-GRID_GROWTH = 2.0  # grid rows grow geometrically from the edge up to the pitch
+# Ground grid: pitch <= lambda / 15, first row below the edge half a trace width down, rows growing
+# by 1.5x up to the pitch.  Chosen by self-convergence on the development cases of
+# tests/fullwave (f at min |S11| against a grid of lambda / 30 pitch, quarter-width edge rows,
+# lambda / 80 segments): within 0.4 %; the earlier lambda / 10 grid with its first row one arm height
+# down was up to 2.5 % off that limit on tall arms (measured; common practice, no source).
+GRID_PITCH_PER_WAVELENGTH = 15.0
+EDGE_ROW_TRACE_WIDTHS = 0.5  # first grid row below the edge at this many trace widths
+GRID_GROWTH = 1.5  # grid rows grow geometrically from the edge up to the pitch
 MIN_SEGMENT_TO_GRID_RADIUS = 4.0  # grid-wire radius capped at segment length / 4
 # antenna segments >= 4 equivalent radii: the reduced thin-wire kernel degrades when segments
 # approach the radius (we saw ~1 % resonance drift at 2.5 radii); common practice, no source
@@ -64,6 +74,8 @@ class MeshControl:
     detail_segments: float = DETAIL_SEGMENTS
     grid_pitch_per_wavelength: float = GRID_PITCH_PER_WAVELENGTH
     grid_segments_per_wavelength: float = GRID_SEGMENTS_PER_WAVELENGTH
+    edge_row_trace_widths: float = EDGE_ROW_TRACE_WIDTHS
+    grid_growth: float = GRID_GROWTH
 
     @property
     def wavelength_m(self) -> float:
@@ -142,16 +154,16 @@ def _merge_close_vertices(pts: list[tuple[float, float]], keep: tuple[float, flo
     return out
 
 
-def _graded_lines(start_m: float, stop_m: float, fine_m: float, pitch_m: float) -> list[float]:
+def _graded_lines(start_m: float, stop_m: float, fine_m: float, pitch_m: float, growth: float) -> list[float]:
     """Grid lines from ``start`` towards ``stop`` (either direction): first step ``fine``, growing by
-    ``GRID_GROWTH`` up to ``pitch``, the last gap stretched or merged to end exactly at ``stop``."""
+    ``growth`` up to ``pitch``, the last gap stretched or merged to end exactly at ``stop``."""
     direction = 1.0 if stop_m > start_m else -1.0
     total = abs(stop_m - start_m)
     lines = [0.0]
     step = min(fine_m, pitch_m)
     while lines[-1] + step < total - 0.5 * step:
         lines.append(lines[-1] + step)
-        step = min(step * GRID_GROWTH, pitch_m)
+        step = min(step * growth, pitch_m)
     lines.append(total)
     return [start_m + direction * v for v in lines]
 
@@ -163,12 +175,24 @@ def _merge_required(uniform: list[float], required: list[float], min_gap_m: floa
     return [k * GEOMETRY_TOL_M for k in keys]
 
 
+def _local_spacings(lines_m: list[float]) -> list[float]:
+    """Spacing each grid line represents: the mean of its gaps to the neighbouring lines (the
+    one gap at either end), the ``pitch`` of the local equal-area rule."""
+    v = np.asarray(lines_m, float)
+    gaps = np.abs(np.diff(v))
+    if gaps.size == 0:
+        return [0.0] * v.size
+    left = np.concatenate([[gaps[0]], gaps])
+    right = np.concatenate([gaps, [gaps[-1]]])
+    return (0.5 * (left + right)).tolist()
+
+
 def ground_grid_wires(ifa: PrintedIfa, control: MeshControl, detail_m: float) -> list[Wire]:
     """Wire grid of the ground plane (``y <= 0``) with lines at the feed and short legs."""
     g = ifa.ground
     pitch = min(control.grid_pitch_m, g.width_m, g.length_m)
-    fine = min(pitch, EDGE_ROW_FACTOR * ifa.height_m)
-    ys = _graded_lines(0.0, -g.length_m, fine, pitch)
+    fine = min(pitch, control.edge_row_trace_widths * ifa.trace_width_m, ifa.height_m)
+    ys = _graded_lines(0.0, -g.length_m, fine, pitch, control.grid_growth)
     arm_x = [p[0] for p in ifa.arm_path_m] + [ifa.feed_x_m, ifa.short_x_m]
     x_lo, x_hi = max(g.x_min_m, min(arm_x)), min(g.x_max_m, max(arm_x))
     uniform = [g.x_min_m + i * g.width_m / max(1, math.ceil(g.width_m / pitch)) for i in range(int(math.ceil(g.width_m / pitch)) + 1)]
@@ -189,18 +213,20 @@ def ground_grid_wires(ifa: PrintedIfa, control: MeshControl, detail_m: float) ->
     xs = _merge_required(uniform, required, 0.5 * fine)
     wires: list[Wire] = []
     # horizontal wires (along x) on every row, split at every column
+    row_spacing = _local_spacings(ys)
+    column_spacing = _local_spacings(xs)
     for row, y in enumerate(ys):
         for x0, x1 in zip(xs, xs[1:]):
             on_edge_near = row == 0 and x1 > x_lo - pitch and x0 < x_hi + pitch
             max_seg = detail_m if on_edge_near else min(pitch, control.grid_max_segment_m)
             n = _n_segments(x1 - x0, max_seg)
-            radius = min(equal_area_grid_radius_m(pitch), (x1 - x0) / n / MIN_SEGMENT_TO_GRID_RADIUS)
+            radius = min(equal_area_grid_radius_m(row_spacing[row]), (x1 - x0) / n / MIN_SEGMENT_TO_GRID_RADIUS)
             wires.append(Wire((x0, y, 0.0), (x1, y, 0.0), n, radius))
     # vertical wires (along y) on every column, split at every row
-    for x in xs:
+    for col, x in enumerate(xs):
         for y0, y1 in zip(ys, ys[1:]):
             n = _n_segments(abs(y1 - y0), min(pitch, control.grid_max_segment_m))
-            radius = min(equal_area_grid_radius_m(pitch), abs(y1 - y0) / n / MIN_SEGMENT_TO_GRID_RADIUS)
+            radius = min(equal_area_grid_radius_m(column_spacing[col]), abs(y1 - y0) / n / MIN_SEGMENT_TO_GRID_RADIUS)
             wires.append(Wire((x, y0, 0.0), (x, y1, 0.0), n, radius))
     return wires
 
@@ -243,6 +269,6 @@ def ifa_wire_model(ifa: PrintedIfa, f_max_hz: float, with_ground: bool = True, w
         wires = [Wire(w.start_m, w.end_m, w.n_segments, w.radius_m) for w in wires]
     if with_ground:
         wires += ground_grid_wires(ifa, control, detail)
-    lam = ifa.laminate
+    lam = equivalent_laminate(ifa)  # the board edge beyond the antenna, as an equivalent slab
     slab = Slab(lam.eps_r, lam.thickness_m, lam.loss_tangent) if with_laminate else None
     return WireModel(tuple(wires), source_wire=0, source_segment=0, slab=slab)

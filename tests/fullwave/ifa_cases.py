@@ -62,6 +62,9 @@ def case_to_ifa(case: dict[str, Any]) -> PrintedIfa:
             loss_tangent=laminate["loss_tangent"],
             copper_thickness_m=laminate["copper_thickness_mm"] * MM_TO_M,
         ),
+        # the openEMS board ends board_margin_mm beyond the arm copper's top edge
+        board_edge_y_m=(max(y for _, y in case["arm_path_mm"]) + 0.5 * case["trace_width_mm"]
+                        + case["board_margin_mm"]) * MM_TO_M,
     )
 
 
