@@ -71,8 +71,11 @@ def equivalent_eps_r_strip_at_board_edge(
                           "keep it inside the board")
     if eps_r == 1.0:
         return 1.0
-    r = lambda v: round(v / ROUND_M) * ROUND_M  # noqa: E731
-    return _equivalent_eps_r(r(width_m), r(gap), float(eps_r), r(thickness_m), r(board_gap_m))
+    return _equivalent_eps_r(_rounded(width_m), _rounded(gap), float(eps_r), _rounded(thickness_m), _rounded(board_gap_m))
+
+
+def _rounded(length_m: float) -> float:
+    return round(length_m / ROUND_M) * ROUND_M
 
 
 def equivalent_laminate(ifa: PrintedIfa) -> Laminate:

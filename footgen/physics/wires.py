@@ -178,10 +178,7 @@ def _merge_required(uniform: list[float], required: list[float], min_gap_m: floa
 def _local_spacings(lines_m: list[float]) -> list[float]:
     """Spacing each grid line represents: the mean of its gaps to the neighbouring lines (the
     one gap at either end), the ``pitch`` of the local equal-area rule."""
-    v = np.asarray(lines_m, float)
-    gaps = np.abs(np.diff(v))
-    if gaps.size == 0:
-        return [0.0] * v.size
+    gaps = np.abs(np.diff(np.asarray(lines_m, float)))  # a grid has >= 2 lines each way
     left = np.concatenate([[gaps[0]], gaps])
     right = np.concatenate([gaps, [gaps[-1]]])
     return (0.5 * (left + right)).tolist()
