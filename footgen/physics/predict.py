@@ -15,7 +15,7 @@ import numpy as np
 from footgen.errors import SolverError
 from footgen.physics.ifa import PrintedIfa
 from footgen.physics.mom import MomSolver
-from footgen.physics.wires import ifa_wire_model
+from footgen.physics.wires import MeshControl, ifa_wire_model
 
 Z0_DEFAULT_OHM = 50.0
 RETURN_LOSS_LIMIT_DB = -10.0
@@ -86,15 +86,16 @@ def im_zin_zero_crossings_hz(freqs_hz: np.ndarray, zin: np.ndarray) -> np.ndarra
 
 
 def resonance_hz(ifa: PrintedIfa, f_lo_hz: float, f_hi_hz: float, z0_ohm: float = Z0_DEFAULT_OHM,
-                 progress: Callable[[int, int], None] | None = None) -> float:
+                 progress: Callable[[int, int], None] | None = None, control: MeshControl | None = None) -> float:
     """Resonance used by footgen: the frequency of minimum ``|S11|`` (``z0_ohm`` reference) in
     ``[f_lo_hz, f_hi_hz]``; a coarse interpolated sweep, then a fine one around the minimum.
+    ``control``: the wire model's mesh (default: :class:`MeshControl` for ``f_hi_hz``).
 
     :func:`resonance_im_zero_hz` gives the alternative definition (``Im(Zin) = 0``).
     """
     if not (0.0 < f_lo_hz < f_hi_hz):
         raise SolverError(f"band = ({f_lo_hz!r}, {f_hi_hz!r}) Hz: need 0 < f_lo_hz < f_hi_hz")
-    solver = MomSolver(ifa_wire_model(ifa, f_hi_hz))
+    solver = MomSolver(ifa_wire_model(ifa, f_hi_hz, control=control))
     coarse = np.linspace(f_lo_hz, f_hi_hz, RESONANCE_COARSE_POINTS)
     s11 = s11_from_zin(_sweep(solver, coarse, progress), z0_ohm)
     i = int(np.argmin(np.abs(s11)))
