@@ -4,8 +4,9 @@ board-level sweep.
 Per model (a free-space wire IFA over a wire-grid ground, ~200 / 400 / 800 unknowns) both codes
 solve the same frequency list; seconds per frequency include each code's geometry set-up spread
 over the list; f_res = min |S11| (50 ohm) on that list.  Each timing is the best of REPEATS runs
-(the machine is shared).  BLAS is limited to one thread: nec2++ is single-threaded and the small
-LU solves gain nothing from a second thread on a shared two-core machine.
+(the machine is shared).  BLAS is limited to one thread (nec2++ is single-threaded); our direct
+sweep still uses the machine's second core by solving one frequency in a worker thread while the
+main thread fills the next matrix, so the ratio compares wall time on the same 2-core machine.
 
 Usage: python benchmarks/solver_vs_nec2.py   (last line: speedup_800=<x> sweep201_s=<s> synth_solve_ms=<ms>)
 """

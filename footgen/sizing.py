@@ -395,7 +395,8 @@ def refine(spec: Spec, start: Sizing, model: str) -> Sizing:
         x, g, pitch, pass_pitch = _refine_passes(spec, stage_model, h, x, pitch, first=stage == 0)
     if spec.style.fit:
         fresh = generate_copper(spec, Sizing(x["length"], h, x["spacing"], "check")).meander_pitch_mm
-        settled = pitch is not None and pitch == pass_pitch and fresh is not None and abs(fresh - pitch) < CONVERGED_MM
+        settled = (pitch is not None and pass_pitch is not None and fresh is not None
+                   and abs(pitch - pass_pitch) < CONVERGED_MM and abs(fresh - pitch) < CONVERGED_MM)
         if not settled:
             # The refits did not settle (the fitted turn count flips between neighbours): one
             # last pass in which every trial's copper is what a spec with that arm length builds.
@@ -412,9 +413,7 @@ def _refine_passes(
     spec: Spec, rm: ResponseModel, h: float, x: dict[str, float], pitch: float | None, *, first: bool
 ) -> tuple[dict[str, float], float, float | None, float | None]:
     """Refinement passes with one model: (values, |Gamma|, pitch to build, pitch of the last pass)."""
-    g = 1.0
-    pass_pitch = pitch
-    for attempt in range(REFINE_PASSES):
+    for attempt in range(REFINE_PASSES):  # REFINE_PASSES >= 1: g and pass_pitch are always set
         pass_pitch = pitch
         x, g, at_limit = _refine_pass(spec, rm, h, x, pitch, first=first and attempt == 0)
         if not spec.style.fit:

@@ -708,15 +708,10 @@ class MomSolver:
 
     # -- sweeps -----------------------------------------------------------------------------
     def sweep_direct(self, freqs_hz: np.ndarray, progress: Callable[[int, int], None] | None = None) -> np.ndarray:
-        """Zin at every frequency by a full fill and solve; with several frequencies worker
-        threads run the LAPACK solves while the next matrices are filled (both cores busy)."""
+        """Zin at every frequency by a full fill and solve; worker threads run the LAPACK solves
+        while the next matrices are filled (both cores busy)."""
         freqs = np.asarray(freqs_hz, float)
         out = np.empty(freqs.shape[0], complex)
-        if freqs.shape[0] == 1:
-            out[0] = self.zin_ohm(float(freqs[0]))
-            if progress is not None:
-                progress(1, 1)
-            return out
         pending: list[tuple[int, Future]] = []
         with ThreadPoolExecutor(max_workers=SWEEP_SOLVE_WORKERS) as pool:
             for i, f in enumerate(freqs):
