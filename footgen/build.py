@@ -14,7 +14,7 @@ from footgen.geometry.layout import Layout, Sizing, build_layout
 from footgen.kicad.writer import FootprintMeta, render
 from footgen.outputs import write_outputs
 from footgen.rules import Violation, check, report_dict
-from footgen.sizing import size
+from footgen.sizing import DEFAULT_MODEL
 from footgen.spec import Spec, load_spec
 
 SAFETY_NOTE = (
@@ -62,11 +62,23 @@ def footprint_meta(spec: Spec) -> FootprintMeta:
 
 
 def run(spec: Spec) -> BuildResult:
-    """Size, lay out, check and render one spec (no I/O)."""
-    sizing = size(spec)
+    """Size, lay out, check and render one spec (no I/O beyond the result cache)."""
+    from footgen.cache import sized  # a sizing solved before is read back, not solved again
+
+    sizing = sized(spec, DEFAULT_MODEL)
     layout = build_layout(spec, sizing)
     violations = tuple(check(layout, spec.fab))
     return BuildResult(spec, sizing, layout, violations, render(layout, footprint_meta(spec)))
+
+
+def calibration_text(spec: Spec) -> str:
+    """The one line on the calibration the revision holds (applied by predict, match, report)."""
+    from footgen.calibration import of_spec
+
+    cal = of_spec(spec.raw)
+    if cal is None:
+        return "Predictions use the bare model: this revision holds no calibration (retune from a measurement records one)."
+    return f"Predictions of this revision are {cal.line()}."
 
 
 def report_markdown(result: BuildResult) -> str:
@@ -94,6 +106,7 @@ def report_markdown(result: BuildResult) -> str:
         "",
     ]
     lines += [f"- {note}" for note in sizing.notes]
+    lines += ["", calibration_text(spec)]
     lines += ["", f"## Rule check against fab profile `{spec.fab.name}`", ""]
     if result.violations:
         lines += [f"- {v.line()}" for v in result.violations]

@@ -174,7 +174,8 @@ def draw_cmd(spec: Path, output: Path, force: bool) -> None:
 @click.option("--plot", "plot", type=click.Path(dir_okay=False, path_type=Path), help="Write the S11 plot: FILE.png and FILE.svg.")
 @click.option("--model", default=None, help="Response model: mom (default) or tline (fast, rough).")
 @click.option("--force", is_flag=True, help="Replace files edited by hand.")
-def predict_cmd(spec: Path, s1p: Path | None, plot: Path | None, model: str | None, force: bool) -> None:
+@click.option("--uncalibrated", is_flag=True, help="Show the bare model: leave out the calibration the revision holds.")
+def predict_cmd(spec: Path, s1p: Path | None, plot: Path | None, model: str | None, force: bool, uncalibrated: bool) -> None:
     """Predict the built antenna's input impedance and S11 around the band: resonance, Zin at
     the band centre, min S11, the -10 dB band and bandwidth.
 
@@ -192,7 +193,7 @@ def predict_cmd(spec: Path, s1p: Path | None, plot: Path | None, model: str | No
         raise click.BadParameter(f"{name!r}: choose one of {', '.join(MODELS)}", param_hint="--model")
     loaded = load_spec(spec)
     click.echo("sizing and sweeping ...", err=True)
-    prediction = predict_spec(loaded, model=name, progress=_progress_printer("sweep"))
+    prediction = predict_spec(loaded, model=name, calibrate=not uncalibrated, progress=_progress_printer("sweep"))
     for line in prediction.summary_lines():
         click.echo(line)
     files: dict[Path, bytes] = {}

@@ -20,6 +20,7 @@ from shapely.geometry import Polygon, box
 from shapely.geometry.base import BaseGeometry
 
 from footgen import sizing
+from footgen.cache import sized as cached_sizing
 from footgen.errors import FootgenError, SpecError
 from footgen.geometry.layout import Layout, build_layout
 from footgen.spec import Spec, load_spec
@@ -143,7 +144,7 @@ def _extent_rows(old: BaseGeometry, new: BaseGeometry) -> list[Row]:
 
 def diff_specs(old: Spec, new: Spec, model: str = sizing.DEFAULT_MODEL) -> RevisionDiff:
     """Size and lay out both specs with ``model`` and compare."""
-    layouts = [build_layout(s, sizing.size(s, model=model)) for s in (old, new)]
+    layouts = [build_layout(s, cached_sizing(s, model)) for s in (old, new)]
     return diff_layouts(*layouts, _spec_label(old), _spec_label(new), spec_changes(old.raw, new.raw))
 
 

@@ -74,14 +74,16 @@ def place_footprint(board: "pcbnew.BOARD", plan_fp: dict, nets: dict[str, "pcbne
     footprint.SetPosition(_vec(plan_fp["position_mm"]))
     footprint.SetReference(plan_fp.get("reference", "AE1"))
     board.Add(footprint)
-    assign_nets(footprint, nets)
+    assign_nets(footprint, nets, plan_fp.get("pad_nets"))
     return footprint
 
 
-def assign_nets(footprint: "pcbnew.FOOTPRINT", nets: dict[str, "pcbnew.NETINFO_ITEM"]) -> None:
-    """Pad 1 (feed) on the RF net, every pad 2 (short, shunt vias) on GND."""
+def assign_nets(footprint: "pcbnew.FOOTPRINT", nets: dict[str, "pcbnew.NETINFO_ITEM"], pad_nets: dict[str, str] | None = None) -> None:
+    """Pad 1 (feed) on the RF net, every pad 2 (short, shunt vias) on GND; ``pad_nets`` (pad
+    number -> net role) overrides that, e.g. for a matching network's pads."""
+    roles = pad_nets or {"1": "rf"}
     for pad in footprint.Pads():
-        pad.SetNet(nets["rf"] if pad.GetNumber() == "1" else nets["gnd"])
+        pad.SetNet(nets[roles.get(pad.GetNumber(), "gnd")])
 
 
 def _zone(board: "pcbnew.BOARD", layer_name: str, polygon: list[list[float]], net: "pcbnew.NETINFO_ITEM", plan: dict) -> None:
