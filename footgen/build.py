@@ -11,6 +11,7 @@ from pathlib import Path
 
 from footgen import __version__
 from footgen.geometry.layout import Layout, Sizing, build_layout
+from footgen.geometry.matching_pads import assembly_lines
 from footgen.kicad.writer import FootprintMeta, render
 from footgen.outputs import write_outputs
 from footgen.rules import Violation, check, report_dict
@@ -107,6 +108,8 @@ def report_markdown(result: BuildResult) -> str:
     ]
     lines += [f"- {note}" for note in sizing.notes]
     lines += ["", calibration_text(spec)]
+    pads = assembly_lines(spec.raw.get("matching_network"))
+    lines += [""] + pads if pads else []
     lines += ["", f"## Rule check against fab profile `{spec.fab.name}`", ""]
     if result.violations:
         lines += [f"- {v.line()}" for v in result.violations]

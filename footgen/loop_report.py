@@ -17,6 +17,7 @@ import numpy as np
 from footgen import sizing
 from footgen.build import SAFETY_NOTE
 from footgen.geometry.layout import Layout, Sizing, build_layout
+from footgen.geometry.matching_pads import assembly_lines
 from footgen.outputs import write_outputs
 from footgen.calibration import Calibration
 from footgen.rf import matching, touchstone
@@ -263,7 +264,9 @@ def markdown(data: ReportData, images: dict[str, str], diff_md: str | None = Non
     lines += [""] + [f"- not offered: {line}" for line in plan.not_offered] + ["", plan.verdict(), ""]
     lines += ["Parts list of the chosen match (source side first):", ""]
     lines += [f"{i}. {p.describe()}" for i, p in enumerate(best.parts, start=1)] or ["No parts: connect directly."]
-    lines += ["", "## Before / after", "", "| | without match | with the chosen match |", "| --- | --- | --- |",
+    pads = assembly_lines(spec.raw.get("matching_network"), _places(best.parts))
+    lines += [""] + pads + [""] if pads else [""]
+    lines += ["## Before / after", "", "| | without match | with the chosen match |", "| --- | --- | --- |",
               f"| \\|S11\\| at f0 | {direct.s11_db_at_f0:.1f} dB | {best.s11_db_at_f0:.1f} dB |",
               f"| worst \\|S11\\| in band | {direct.worst_s11_db_in_band:.1f} dB | {best.worst_s11_db_in_band:.1f} dB |",
               f"| -10 dB band around f0 | {_band_text(plan.freq_hz, direct.s11, f0)} | {_band_text(plan.freq_hz, best.s11, f0)} |", ""]
@@ -271,6 +274,19 @@ def markdown(data: ReportData, images: dict[str, str], diff_md: str | None = Non
         lines += [diff_md, f"![overlay]({images['overlay']})", ""]
     lines += ["## Caution", "", SAFETY_NOTE, ""]
     return "\n".join(lines)
+
+
+def _places(parts: tuple[matching.Part, ...]) -> tuple[tuple[str, str], ...]:
+    """Where a network's parts (source -> load) go on the matching pads: the series part in the
+    series place (a 0 ohm link if none), a shunt part before it at the radio node, after it at
+    the antenna node."""
+    series_at = next((i for i, p in enumerate(parts) if p.placement == matching.SERIES), None)
+    places = [("series", parts[series_at].describe() if series_at is not None else "0 ohm link")]
+    for i, p in enumerate(parts):
+        if p.placement == matching.SHUNT:
+            node = "radio" if series_at is not None and i < series_at else "antenna"
+            places.append((f"shunt at the {node} node", p.describe()))
+    return tuple(places)
 
 
 def _z(z: complex) -> str:

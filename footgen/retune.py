@@ -426,8 +426,9 @@ def retune(
     f_target = spec.target.center_hz if f_target_hz is None else float(f_target_hz)
     if not (math.isfinite(f_target) and f_target > 0):
         raise SpecError("--target-mhz", f_target_hz, "give a positive target frequency")
+    date = measurement_date(Path(measurement.source).read_text("utf-8", errors="replace"), measured_date, measurement.source)
     say(f"retune: revision {spec.revision} with the {model} model")
-    comparison = calibrate(spec, measurement, model=model, measured_date=measured_date)
+    comparison = calibrate(spec, measurement, model=model, measured_date=date)
     old, before, meas, cal = comparison.sizing, comparison.model_dip, comparison.measured_dip, comparison.calibration
     say(f"retune: measured resonance {meas.freq_hz / 1e6:.3f} MHz ({meas.s11_db:.1f} dB, R {meas.r_ohm:.1f} ohm); "
         f"bare model {before.freq_hz / 1e6:.3f} MHz (R {before.r_ohm:.1f} ohm)")

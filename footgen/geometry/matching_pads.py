@@ -104,3 +104,24 @@ def matching_pads(*, kind: str, package: str, feed_pad_width_mm: float, feed_pad
         pads.append(MatchPad(number, _rect(x_inner, y, a, b), f"shunt at the {node} node"))
         pads.append(MatchPad("2", _rect(x_outer, y, a, b), f"shunt at the {node} node"))
     return MatchingPads(tuple(pads), package, kind)
+
+
+def assembly_lines(section: dict | None, chosen: tuple[tuple[str, str], ...] | None = None) -> list[str]:
+    """Markdown lines telling which pads get which part, for a spec's ``matching_network``
+    section (none without one).  ``chosen``: (place, part) of a recommended match, listed beside
+    the starting assembly."""
+    if section is None:
+        return []
+    pads = MatchingPads((), section.get("package", "0402"), section.get("network", "pi"))
+    lines = ["## Matching pads", "", f"{pads.package} lands of a {pads.kind} network on the feed; the radio's 50 ohm track "
+             "connects to pad 3.", ""]
+    if chosen is None:
+        lines += ["| place | pads | starting assembly |", "| --- | --- | --- |"]
+        return lines + [f"| {place} | {between} | {start} |" for place, between, start in pads.places]
+    fitted = dict(chosen)
+    missing = [place for place in fitted if place not in {row[0] for row in pads.places}]
+    lines += ["| place | pads | starting assembly | recommended match |", "| --- | --- | --- | --- |"]
+    lines += [f"| {place} | {between} | {start} | {fitted.get(place, start)} |" for place, between, start in pads.places]
+    if missing:
+        lines += ["", f"The recommended match needs a {', '.join(missing)}, which these {pads.kind} pads do not have."]
+    return lines
