@@ -217,3 +217,27 @@ def test_schema_documents_and_checks_the_calibration(tmp_path, r1_path):
     data["calibration"]["freq_factor"] = 7.0
     with pytest.raises(SpecError, match="calibration.freq_factor"):
         parse_spec(data)
+
+
+def test_retune_of_a_fitted_meander_uses_the_model_predict_uses(tmp_path):
+    """The bundled bike-remote example (a fitted meander, MoM model): a synthetic sweep that is
+    predict's own bare prediction with its frequency axis times 1.06 (an invented 6 % detuning)
+    is retuned on the same model path: the calibration finds the 6 % and the new revision's
+    calibrated prediction lands on the target."""
+    spec = load_spec(ROOT / "examples" / "bike-remote-2g4.json")
+    f0 = spec.target.center_hz
+    bare = predict_spec(spec, calibrate=False)
+    path = write_sweep(tmp_path / "bike.s1p", bare.freq_hz * DETUNE, bare.zin_ohm)
+    result = retune(spec, touchstone.read_s11(path))
+    assert result.calibration.freq_factor == pytest.approx(DETUNE, rel=FACTOR_REL)
+    assert result.calibration.resistance_factor == pytest.approx(1.0, rel=FACTOR_REL)
+    out = write_retuned_spec(result, tmp_path / "bike-r2.json")
+    assert abs(predict_spec(load_spec(out)).f_res_hz / f0 - 1) < LANDING_REL
+    # a board 6 % high needs a longer arm (resonance ~ 1 / length for a quarter-wave line)
+    assert result.new_sizing.arm_length_mm > result.old_sizing.arm_length_mm
+
+
+#: The invented detuning of the meander check and how closely the factors must find it (the
+#: measured resonance is refined on the sweep's samples, the model's on a spline).
+DETUNE = 1.06
+FACTOR_REL = 2e-3
