@@ -17,19 +17,12 @@ from __future__ import annotations
 
 import re
 from dataclasses import dataclass
-from typing import Callable
-
-import numpy as np
-
 from footgen.errors import MeasurementError
 
 #: ISO calendar date, as the calibration records it (never the clock: output stays byte-stable).
 DATE_PATTERN = re.compile(r"\b(\d{4})-(\d{2})-(\d{2})\b")
 #: Decimal places of the factors written into the spec (1e-6 relative).
 FACTOR_DECIMALS = 6
-
-ZinFunction = Callable[[np.ndarray], np.ndarray]
-
 
 @dataclass(frozen=True)
 class Calibration:
@@ -73,19 +66,6 @@ def of_spec(raw: dict) -> Calibration | None:
     """The calibration a spec revision carries, or None."""
     section = raw.get("calibration")
     return None if section is None else Calibration.from_json(section)
-
-
-def calibrated(zin: ZinFunction, cal: Calibration | None) -> ZinFunction:
-    """The model's impedance function carried over by ``cal`` (unchanged for None)."""
-    if cal is None:
-        return zin
-    k_f, k_r = cal.freq_factor, cal.resistance_factor
-
-    def z_cal(freq_hz: np.ndarray) -> np.ndarray:
-        z = np.asarray(zin(np.asarray(freq_hz, dtype=float) / k_f), dtype=complex)
-        return k_r * z.real + 1j * z.imag
-
-    return z_cal
 
 
 def measurement_date(text: str, given: str | None, source: str) -> str:

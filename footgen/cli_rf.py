@@ -131,7 +131,7 @@ def match_cmd(spec: Path | None, measured: Path | None, f0_mhz: float | None, ba
     """
     import numpy as np
 
-    from footgen.rf import matching
+    from footgen.rf import match_plan
 
     band = None
     loaded = None
@@ -169,7 +169,7 @@ def match_cmd(spec: Path | None, measured: Path | None, f0_mhz: float | None, ba
         band = (band_mhz[0] * 1e6, band_mhz[1] * 1e6)
     if band is not None:
         band = (max(band[0], freq[0]), min(band[1], freq[-1]))
-    plan = matching.plan_match(freq, z, f0, band_hz=band, series=series, package=package)
+    plan = match_plan.plan_match(freq, z, f0, band_hz=band, series=series, package=package)
     z0 = plan.z_at_f0_ohm
     click.echo(f"{what} Zin at {f0 / 1e6:.3f} MHz: {z0.real:.2f} {'+' if z0.imag >= 0 else '-'} j{abs(z0.imag):.2f} ohm")
     for i, c in enumerate(plan.candidates):
@@ -179,7 +179,7 @@ def match_cmd(spec: Path | None, measured: Path | None, f0_mhz: float | None, ba
     for line in plan.not_offered:
         click.echo(f"  not offered: {line}")
     click.echo(plan.verdict())
-    click.echo(f"parts: {series} values as {package} chip parts with Q and self-resonance ({matching.PARTS_NOTE}); estimates only")
+    click.echo(f"parts: {series} values as {package} chip parts with Q and self-resonance ({match_plan.PARTS_NOTE}); estimates only")
 
 
 @click.command("report")

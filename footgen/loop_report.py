@@ -20,7 +20,7 @@ from footgen.geometry.layout import Layout, Sizing, build_layout
 from footgen.geometry.matching_pads import assembly_lines
 from footgen.outputs import write_outputs
 from footgen.calibration import Calibration
-from footgen.rf import matching, touchstone
+from footgen.rf import match_plan, matching, touchstone
 from footgen.rf.parts import DEFAULT_PACKAGE
 from footgen.rf.touchstone import Measurement
 from footgen.errors import MeasurementError
@@ -99,7 +99,7 @@ class ReportData:
     freq_hz: np.ndarray  # the prediction sweep of the bare model
     predicted_s11: np.ndarray  # the bare model
     measured: Measurement | None
-    plan: matching.MatchPlan
+    plan: match_plan.MatchPlan
     matched_on: str  # "measured", "calibrated prediction" or "predicted"
     corrected_s11: np.ndarray | None = None  # the calibrated prediction, on corrected_freq_hz
     calibration: Calibration | None = None
@@ -145,7 +145,7 @@ def prepare(spec: Spec, measurement: Measurement | None = None, *, calibration: 
         matched_on = "calibrated prediction" if pred.calibration is not None else "predicted"
     band = (max(spec.target.low_hz, f_load[0]), min(spec.target.high_hz, f_load[-1]))
     say(f"report: matching networks at {f0 / 1e6:.2f} MHz ({matched_on} Zin, {series}, {package})")
-    plan = matching.plan_match(f_load, z_load, f0, band_hz=band, series=series, package=package)
+    plan = match_plan.plan_match(f_load, z_load, f0, band_hz=band, series=series, package=package)
     return ReportData(spec, model, sz, layout, violations, f, s_pred, measurement, plan, matched_on, s_corr,
                       pred.calibration, f_corr, pred.calibration_line())
 
@@ -253,7 +253,7 @@ def markdown(data: ReportData, images: dict[str, str], diff_md: str | None = Non
     direct = plan.candidates[0]
     lines += ["", "## Match", "", f"![Smith chart]({images['smith']})", "",
               f"Matched on the {data.matched_on} input impedance {_z(plan.z_at_f0_ohm)} at {f0 / 1e6:.2f} MHz; "
-              f"parts: {plan.series} values as {plan.package} chip parts ({matching.PARTS_NOTE}: series loss from Q, "
+              f"parts: {plan.series} values as {plan.package} chip parts ({match_plan.PARTS_NOTE}: series loss from Q, "
               "self-resonance); networks with a part outside the package's ranges are not offered.", "",
               "| network | parts | \\|S11\\| at f0 | worst \\|S11\\| in band | loss in the network (worst in band) |",
               "| --- | --- | --- | --- | --- |"]

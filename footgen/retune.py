@@ -28,8 +28,7 @@ import numpy as np
 from footgen import sizing
 from footgen.calibration import Calibration, measurement_date
 from footgen.errors import InfeasibleSpecError, MeasurementError, OverwriteRefusedError, SolverError, SpecError
-from footgen.geometry.layout import Layout, Sizing, build_layout, generate_copper
-from footgen.model import printed_ifa
+from footgen.geometry.layout import Layout, Sizing, build_layout
 from footgen.outputs import write_outputs
 from footgen.physics.ifa import PrintedIfa
 from footgen.prediction import Resonance, copper_ifa, model_zin_ohm, predict_spec, resonance, sized, sweep_hz

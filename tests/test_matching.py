@@ -15,6 +15,7 @@ from skrf.media import DefinedGammaZ0
 from footgen.errors import SpecError
 from footgen.rf import eseries
 from footgen.rf import parts as chip
+from footgen.rf import match_plan as mp
 from footgen.rf import matching as mt
 
 # Pozar prints element values to 2-3 significant figures (e.g. 38.8 nH from X rounded to 122).
@@ -364,7 +365,7 @@ BAND_HZ = (2.4e9, 2.4835e9)
 @pytest.mark.parametrize("series", ["E12", "E24"])
 def test_plan_lists_snapped_networks_with_their_band_response(series):
     z_load = antenna_like_load_ohm(SWEEP_HZ)
-    plan = mt.plan_match(SWEEP_HZ, z_load, F0_HZ, band_hz=BAND_HZ, series=series)
+    plan = mp.plan_match(SWEEP_HZ, z_load, F0_HZ, band_hz=BAND_HZ, series=series)
     labels = [c.label for c in plan.candidates]
     assert labels[0] == "direct" and any(l.startswith("L ") for l in labels) and any(l.startswith("pi ") for l in labels)
     in_band = (SWEEP_HZ >= BAND_HZ[0]) & (SWEEP_HZ <= BAND_HZ[1])
@@ -377,13 +378,13 @@ def test_plan_lists_snapped_networks_with_their_band_response(series):
             max(float(np.max(20 * np.log10(np.abs(c.s11[in_band])))), c.s11_db_at_f0), abs=1e-9
         )
     best = min(c.worst_s11_db_in_band for c in plan.candidates)
-    assert plan.best.worst_s11_db_in_band <= best + mt.EQUAL_WORST_DB
+    assert plan.best.worst_s11_db_in_band <= best + mp.EQUAL_WORST_DB
     assert plan.best.worst_s11_db_in_band < plan.candidates[0].worst_s11_db_in_band  # better than no match
 
 
 def test_plan_rejects_f0_outside_the_sweep():
     with pytest.raises(SpecError):
-        mt.plan_match(SWEEP_HZ, antenna_like_load_ohm(SWEEP_HZ), 5e9)
+        mp.plan_match(SWEEP_HZ, antenna_like_load_ohm(SWEEP_HZ), 5e9)
 
 
 # ----------------------------------------------------------------------------- buildable parts
@@ -396,7 +397,7 @@ def test_every_offered_part_is_inside_its_range(r_ohm, x_ohm, package, series, f
     """Invented loads over a wide span: whatever is offered can be bought (value range of the
     package, below SRF_MARGIN of its self-resonance), and a network left out names its part."""
     f = np.linspace(0.9 * f0_hz, 1.1 * f0_hz, 41)
-    plan = mt.plan_match(f, np.full(f.size, complex(r_ohm, x_ohm)), f0_hz, series=series, package=package)
+    plan = mp.plan_match(f, np.full(f.size, complex(r_ohm, x_ohm)), f0_hz, series=series, package=package)
     pkg = chip.PACKAGES[package]
     for c in plan.candidates:
         for p in c.parts:
@@ -412,7 +413,7 @@ def test_no_buildable_network_says_so():
     """Invented load: 2 + j400 ohm at 2.45 GHz needs a series capacitor far below 0.5 pF or a
     shunt inductor far below 1 nH for every L and pi solution."""
     f = np.linspace(2.4e9, 2.5e9, 21)
-    plan = mt.plan_match(f, np.full(f.size, 2.0 + 400j), 2.45e9, band_hz=(2.4e9, 2.4835e9))
+    plan = mp.plan_match(f, np.full(f.size, 2.0 + 400j), 2.45e9, band_hz=(2.4e9, 2.4835e9))
     assert [c.label for c in plan.candidates] == ["direct"] and plan.not_offered
     assert plan.no_buildable_network
     assert plan.verdict().startswith("no buildable network: every L and pi network needs parts outside the 0402 ranges")
@@ -437,5 +438,5 @@ def test_chip_capacitor_self_resonates_where_its_model_says():
 
 def test_matched_load_needs_no_network():
     f = np.linspace(2.3e9, 2.6e9, 31)
-    plan = mt.plan_match(f, np.full(f.size, 52.0 + 3.0j), 2.45e9, band_hz=(2.4e9, 2.4835e9))
+    plan = mp.plan_match(f, np.full(f.size, 52.0 + 3.0j), 2.45e9, band_hz=(2.4e9, 2.4835e9))
     assert plan.best.label == "direct" and plan.verdict().startswith("no network needed")
