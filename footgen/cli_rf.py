@@ -217,7 +217,7 @@ def report_cmd(spec: Path, measured: Path | None, out_dir: Path, previous: Path 
     prev = load_spec(previous) if previous is not None else None
     calibration = None
     if previous_measured is not None:
-        from footgen.retune import calibrate
+        from footgen.comparison import calibrate
 
         calibration = calibrate(prev, read_s11(previous_measured), model=name, measured_date=measured_date).calibration
     for path in write_report(loaded, out_dir, measurement, previous=prev, calibration=calibration, uncalibrated=uncalibrated,

@@ -213,7 +213,7 @@ def _band_text(freq_hz: np.ndarray, s11: np.ndarray, f0_hz: float) -> str:
 
 
 def markdown(data: ReportData, images: dict[str, str], diff_md: str | None = None) -> str:
-    from footgen.retune import measured_dip
+    from footgen.comparison import measured_dip
 
     spec, sz, d, plan = data.spec, data.sizing, data.layout.dims, data.plan
     f0 = plan.f0_hz
