@@ -56,7 +56,6 @@ def test_board_plan(spec: Spec, layout: Layout, *, library: str, footprint_file:
     # start deep enough in the pad that the track's round end stays below the ground edge
     start_y = min(-pl / 2, -spec.feed.pad_width_mm / 2)
     nets = {"rf": RF_NET, "gnd": GND_NET}
-    pad_nets = None
     radio = [p for p in layout.pads if p.number == "3"]
     if radio:
         # A matching network on the feed: the track leaves its radio-side pad (3); the antenna
@@ -64,7 +63,6 @@ def test_board_plan(spec: Spec, layout: Layout, *, library: str, footprint_file:
         x3, y3 = radio[0].center
         start_y = b * x3 + d * y3  # canonical y: the placement matrix is orthogonal, its inverse its transpose
         nets["antenna"] = ANTENNA_NET
-        pad_nets = {"1": "antenna", "2": "gnd", "3": "rf"}
     track = [board_pt(0.0, start_y), board_pt(0.0, -pl - gap - FEED_TRACK_RUN_MM)]
     vias = []
     y = -STITCH_MARGIN_MM - pl - gap - FEED_TRACK_RUN_MM
@@ -82,7 +80,6 @@ def test_board_plan(spec: Spec, layout: Layout, *, library: str, footprint_file:
             "name": spec.name,
             "file": footprint_file,
             "position_mm": [ox, oy],
-            **({"pad_nets": pad_nets} if pad_nets else {}),
         },
         "nets": nets,
         "outline_mm": ring(outline),
