@@ -179,7 +179,8 @@ def match_cmd(spec: Path | None, measured: Path | None, f0_mhz: float | None, ba
     for line in plan.not_offered:
         click.echo(f"  not offered: {line}")
     click.echo(plan.verdict())
-    click.echo(f"parts: {series} values as {package} chip parts with Q and self-resonance ({match_plan.PARTS_NOTE}); estimates only")
+    click.echo(f"parts: {series} values as {package} chip parts ({match_plan.ranges_text(package)}; with loss from Q and "
+               f"self-resonance, {match_plan.PARTS_NOTE}); estimates only")
 
 
 @click.command("report")

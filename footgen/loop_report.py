@@ -253,8 +253,8 @@ def markdown(data: ReportData, images: dict[str, str], diff_md: str | None = Non
     direct = plan.candidates[0]
     lines += ["", "## Match", "", f"![Smith chart]({images['smith']})", "",
               f"Matched on the {data.matched_on} input impedance {_z(plan.z_at_f0_ohm)} at {f0 / 1e6:.2f} MHz; "
-              f"parts: {plan.series} values as {plan.package} chip parts ({match_plan.PARTS_NOTE}: series loss from Q, "
-              "self-resonance); networks with a part outside the package's ranges are not offered.", "",
+              f"parts: {plan.series} values as {plan.package} chip parts ({match_plan.ranges_text(plan.package)}; "
+              f"{match_plan.PARTS_NOTE}: series loss from Q, self-resonance); networks with a part outside these ranges are not offered.", "",
               "| network | parts | \\|S11\\| at f0 | worst \\|S11\\| in band | loss in the network (worst in band) |",
               "| --- | --- | --- | --- | --- |"]
     for i, c in enumerate(plan.candidates):

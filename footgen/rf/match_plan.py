@@ -87,16 +87,24 @@ class MatchPlan:
         best = self.best
         if self.no_buildable_network:
             return (f"no buildable network: every L and pi network needs parts outside the {self.package} ranges "
-                    f"({_ranges_text(self.package)}); change the antenna (feed tap, arm length) instead")
+                    f"({ranges_text(self.package)}); change the antenna (feed tap, arm length) instead")
         if not best.parts:
             return "no network needed: the direct connection already meets the -10 dB match in the band"
         return f"recommended: {best.describe()}"
 
 
-def _ranges_text(package: str) -> str:
+def ranges_text(package: str) -> str:
     pkg = _package(package)
     return (f"C {pkg.c_min_f / 1e-12:g}-{pkg.c_max_f / 1e-12:g} pF, L {pkg.l_min_h / 1e-9:g}-{pkg.l_max_h / 1e-9:g} nH, "
             f"below {chip.SRF_MARGIN:g} x self-resonance")
+
+
+def _why_not(part: Part, pkg: chip.Package) -> str:
+    lo, hi = chip.value_range(pkg, part.kind)
+    if lo * (1 - 1e-9) <= part.value <= hi * (1 + 1e-9):
+        srf = chip.self_resonance_hz(pkg, part.kind, part.value)
+        return f"{part.describe()} self-resonates at {srf / 1e6:.0f} MHz, too near the band"
+    return f"{part.describe()} outside the {pkg.name} range"
 
 
 def _interp_complex(freq_hz: np.ndarray, values: np.ndarray, f0_hz: float) -> complex:
@@ -143,7 +151,7 @@ def plan_match(
         snapped = snap_parts(ideal, series, package)
         outside = [p for p in snapped if not chip.in_range(pkg, p.kind, p.value, max(hi, f0_hz))]
         if outside:
-            not_offered.append(f"{label}: {', '.join(p.describe() for p in outside)} outside the {package} range")
+            not_offered.append(f"{label}: {', '.join(_why_not(p, pkg) for p in outside)}")
             continue
         s11 = network_s11(f, snapped, z, r0_ohm)
         loss = network_loss_db(f, snapped, z)
