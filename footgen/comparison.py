@@ -17,7 +17,7 @@ from footgen import sizing
 from footgen.calibration import Calibration, measurement_date
 from footgen.errors import MeasurementError, SolverError
 from footgen.geometry.layout import Sizing
-from footgen.prediction import Resonance, predict_spec, resonance, sized
+from footgen.prediction import Resonance, copper_ifa, model_zin_ohm, predict_spec, resonance, resonance_sweep_hz, sized
 from footgen.rf import touchstone
 from footgen.rf.touchstone import Measurement
 from footgen.spec import Spec
@@ -77,16 +77,22 @@ def calibrate(spec: Spec, measurement: Measurement, *, model: str = sizing.DEFAU
     ``measured_date`` or the one the file names (never the clock)."""
     date = measurement_date(Path(measurement.source).read_text("utf-8", errors="replace"), measured_date, measurement.source)
     old = sized(spec, model)
-    bare = predict_spec(spec, model=model, calibrate=False, numbers=old)
-    before = bare.resonance
+    ifa = copper_ifa(spec, old)
+    freq = resonance_sweep_hz(spec.target.center_hz)
+    zin = model_zin_ohm(ifa, freq, model)
+    before = resonance(freq, zin)
+    if before.at_edge:  # copper far off the band centre (given by hand): the whole prediction sweep
+        bare = predict_spec(spec, model=model, calibrate=False, numbers=old)
+        freq, zin = bare.bare_freq_hz, bare.bare_zin_ohm
+        before = resonance(freq, zin)
     if before.at_edge:
         raise SolverError(f"the model puts revision {spec.revision}'s resonance outside its sweep "
-                          f"({bare.freq_hz[0] / 1e6:.1f} .. {bare.freq_hz[-1] / 1e6:.1f} MHz); retune by hand")
+                          f"({freq[0] / 1e6:.1f} .. {freq[-1] / 1e6:.1f} MHz); retune by hand")
     meas = measured_dip(measurement, before.freq_hz)
     if meas.r_ohm <= 0 or before.r_ohm <= 0:
         raise MeasurementError(f"{measurement.source}: resistance at the resonance is not positive ({meas.r_ohm:.3g} ohm); check the VNA calibration")
     k_r = meas.r_ohm / before.r_ohm
-    scaled = resonance(bare.bare_freq_hz, k_r * bare.bare_zin_ohm.real + 1j * bare.bare_zin_ohm.imag)
+    scaled = resonance(freq, k_r * zin.real + 1j * zin.imag)
     cal = Calibration(meas.freq_hz / scaled.freq_hz, k_r, Path(measurement.source).name, measurement_sha256(measurement),
                       spec.digest, spec.revision, date, meas.freq_hz / 1e6)
     return Comparison(old, before, meas, cal)

@@ -31,7 +31,7 @@ from footgen.geometry.layout import Layout, Sizing, build_layout
 from footgen.outputs import write_outputs
 from footgen.physics.ifa import PrintedIfa
 from footgen.comparison import calibrate, calibrated_dip
-from footgen.prediction import Resonance, copper_ifa, model_zin_ohm, predict_spec, resonance, sized, sweep_hz
+from footgen.prediction import Resonance, copper_ifa, model_zin_ohm, resonance, resonance_sweep_hz, sized, sweep_hz
 from footgen.rf.touchstone import Measurement
 from footgen.rules import Violation, check
 from footgen.spec import Spec, parse_spec
@@ -47,11 +47,11 @@ R_FAR_RATIO = 1.5
 #: (a spline through the sweep, 1e-5 relative resolution) does not dominate.
 FD_STEP_LENGTH_MM = 0.1
 FD_STEP_SPACING_MM = 0.05
-#: Newton iterations and convergence of the residuals (dimensionless): the resonance to 0.02 %
+#: Newton iterations and convergence of the residuals (dimensionless): the resonance to 0.005 %
 #: of the target; with the tap, the reflection coefficient at the target to 0.005 in real and
 #: imaginary part (a resistance within 1 % of 50 ohm).
 MAX_NEWTON_STEPS = 25
-RESIDUAL_TOL = np.array([2e-4])
+RESIDUAL_TOL = np.array([5e-5])
 RESIDUAL_TOL_TAP = np.array([5e-3, 5e-3])
 #: Largest Newton step, relative to each unknown's current value (a trust region).
 MAX_STEP_REL = 0.2
@@ -172,7 +172,8 @@ class _Problem:
         self.f_target = f_target_hz
         self.move_tap = move_tap
         self.fixed_spacing = fixed_spacing_mm
-        self.freq_hz = sweep_hz(spec)
+        # the narrow resonance sweep around where the bare model must resonate
+        self.freq_hz = resonance_sweep_hz(f_target_hz / cal.freq_factor)
 
     def numbers(self, x: np.ndarray) -> tuple[float, float]:
         return float(x[0]), (float(x[1]) if self.move_tap else self.fixed_spacing)
@@ -183,8 +184,13 @@ class _Problem:
         return model_zin_ohm(self.ev.ifa(length, self.height, spacing), self.freq_hz, self.model)
 
     def dip(self, x: np.ndarray) -> Dip:
-        """The calibrated model's resonance at a trial geometry, on predict's sweep."""
+        """The calibrated model's resonance at a trial geometry: on the narrow sweep, or on
+        predict's whole sweep when it lies beyond the narrow one (a geometry far off)."""
         d = calibrated_dip(self.freq_hz, self.sweep(x), self.cal)
+        if d.at_edge:
+            length, spacing = self.numbers(x)
+            wide = sweep_hz(self.ev.spec)
+            d = calibrated_dip(wide, model_zin_ohm(self.ev.ifa(length, self.height, spacing), wide, self.model), self.cal)
         if d.at_edge:
             raise SolverError(f"no resonance inside the sweep at arm {x[0]:.3f} mm")
         return d
@@ -391,7 +397,7 @@ def retune(
             "$.arm.length_mm", _round_mm(length),
             f"the retuned layout breaks fab rule {errors[0].rule} ({errors[0].message}); {near}",
         )
-    after = predict_spec(new_spec, model=model, numbers=new_sizing).resonance
+    after = calibrated_dip(problem.freq_hz, model_zin_ohm(copper_ifa(new_spec, new_sizing), problem.freq_hz, model), cal)
     if not tap and _tap_needs_moving(meas):
         notes.append("the measured match is poor but the tap was kept as asked: add a matching network")
     return RetuneResult(

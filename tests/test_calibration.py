@@ -229,6 +229,10 @@ def test_retune_of_a_fitted_meander_uses_the_model_predict_uses(tmp_path):
     bare = predict_spec(spec, calibrate=False)
     path = write_sweep(tmp_path / "bike.s1p", bare.freq_hz * DETUNE, bare.zin_ohm)
     result = retune(spec, touchstone.read_s11(path))
+    # one model path: retune's bare model of this revision is predict's (its narrower search
+    # sweep included)
+    assert result.model_before.freq_hz == pytest.approx(bare.f_res_hz, rel=SAME_MODEL_REL)
+    assert result.model_before.r_ohm == pytest.approx(bare.resonance.r_ohm, rel=SAME_MODEL_REL)
     assert result.calibration.freq_factor == pytest.approx(DETUNE, rel=FACTOR_REL)
     assert result.calibration.resistance_factor == pytest.approx(1.0, rel=FACTOR_REL)
     out = write_retuned_spec(result, tmp_path / "bike-r2.json")
@@ -241,3 +245,5 @@ def test_retune_of_a_fitted_meander_uses_the_model_predict_uses(tmp_path):
 #: measured resonance is refined on the sweep's samples, the model's on a spline).
 DETUNE = 1.06
 FACTOR_REL = 2e-3
+#: predict's sweep and retune's narrower one of the same model (resonance and R there)
+SAME_MODEL_REL = 1e-4
