@@ -105,18 +105,18 @@ def report_markdown(result: BuildResult) -> str:
 
 def output_files(result: BuildResult, *, include_footprint: bool) -> dict[str, bytes]:
     """The files of a build, relative to the output folder."""
-    from footgen.draw import render_svg_png  # matplotlib is slow to import: only when drawing
+    from footgen.draw import drawing
 
     spec = result.spec
     subtitle = f"{spec.target.low_hz / 1e6:g}-{spec.target.high_hz / 1e6:g} MHz, {spec.style.kind}, revision {spec.revision}"
-    svg, png = render_svg_png(result.layout, spec.name, subtitle)
+    canvas = drawing(result.layout, spec.name, subtitle, result.violations)
     files = {
         f"{spec.name}.report.md": report_markdown(result).encode("utf-8"),
         f"{spec.name}.check.json": (json.dumps(report_dict(list(result.violations), spec.fab), indent=2, sort_keys=True) + "\n").encode("utf-8"),
-        f"{spec.name}.svg": svg,
+        f"{spec.name}.svg": canvas.svg(),
     }
-    if spec.output.drawing_png:
-        files[f"{spec.name}.png"] = png
+    if spec.output.drawing_png:  # the PNG is rasterised only when asked for
+        files[f"{spec.name}.png"] = canvas.png()
     if include_footprint:
         files[result.footprint_relpath] = result.footprint_text.encode("utf-8")
     return files

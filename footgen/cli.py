@@ -155,7 +155,7 @@ def draw_cmd(spec: Path, output: Path, force: bool) -> None:
       footgen draw examples/soil-probe-2g4.json -o antenna.svg
     """
     from footgen.build import run
-    from footgen.draw import render_svg_png
+    from footgen.draw import drawing
     from footgen.outputs import write_outputs
     from footgen.spec import load_spec
 
@@ -163,8 +163,8 @@ def draw_cmd(spec: Path, output: Path, force: bool) -> None:
     if suffix not in (".svg", ".png"):
         raise click.BadParameter(f"{output}: use a .svg or .png file name", param_hint="--output")
     result = run(load_spec(spec))
-    svg, png = render_svg_png(result.layout, result.spec.name, result.spec.target.label)
-    write_outputs(output.parent, {output.name: svg if suffix == ".svg" else png}, force=force)
+    canvas = drawing(result.layout, result.spec.name, result.spec.target.label, result.violations)
+    write_outputs(output.parent, {output.name: canvas.svg() if suffix == ".svg" else canvas.png()}, force=force)
     click.echo(f"wrote {output}")
 
 

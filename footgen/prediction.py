@@ -87,27 +87,16 @@ def predict_spec(spec: Spec, *, model: str = DEFAULT_MODEL, progress: Callable[[
 
 
 def plot_s11(prediction: Prediction, measured: tuple[np.ndarray, np.ndarray] | None = None) -> tuple[bytes, bytes]:
-    """SVG and PNG of |S11| in dB over the sweep, the target band shaded (deterministic bytes)."""
-    from matplotlib.figure import Figure
-
-    from footgen.draw import figure_bytes
+    """SVG and PNG of |S11| in dB over the sweep and zoomed on the target band, with the
+    resonance, the -10 dB band edges and the worst in-band |S11| marked (deterministic bytes)."""
+    from footgen.plots import figure_bytes, s11_figure
 
     spec = prediction.spec
-    fig = Figure(figsize=(7.0, 4.0))
-    ax = fig.add_subplot(1, 1, 1)
-    ax.axvspan(spec.target.low_hz / 1e6, spec.target.high_hz / 1e6, color="#c6f6d5", alpha=0.6, label="target band")
-    ax.plot(prediction.freq_hz / 1e6, prediction.s11_db, color="#2b6cb0", label="predicted")
+    curves = [(prediction.freq_hz, prediction.s11, {"color": "#2b6cb0", "lw": 1.2, "label": "predicted"})]
     if measured is not None:
-        f, s11 = measured
-        ax.plot(f / 1e6, 20 * np.log10(np.maximum(np.abs(s11), 1e-12)), color="#c05621", label="measured")
-    ax.axhline(-10.0, color="gray", lw=0.8, ls="--")
-    ax.set_xlabel("frequency (MHz)")
-    ax.set_ylabel("|S11| (dB)")
-    ax.set_title(f"{spec.name}: predicted S11 ({prediction.model_label.split(' (')[0]})", fontsize=9)
-    ax.legend(fontsize=8)
-    ax.grid(True, lw=0.3)
-    fig.tight_layout()
-    return figure_bytes(fig)
+        curves.append((measured[0], measured[1], {"color": "#c05621", "lw": 1.2, "label": "measured"}))
+    title = f"{spec.name}: predicted S11 ({prediction.model_label.split(' (')[0]})"
+    return figure_bytes(s11_figure(title, (spec.target.low_hz, spec.target.high_hz), curves))
 
 
 def touchstone_text(prediction: Prediction) -> bytes:
