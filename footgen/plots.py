@@ -54,7 +54,10 @@ def s11_markers(freq_hz: np.ndarray, s11: np.ndarray, band_hz: tuple[float, floa
     f = np.asarray(freq_hz, float)
     db = touchstone.s11_db(s11)
     f_res, level = touchstone.min_s11_db(f, s11)
-    out = [("resonance", f_res, level, f"resonance {f_res / 1e6:.1f} MHz, {level:.1f} dB")]
+    at_end = f_res <= f[0] or f_res >= f[-1]
+    label = (f"min |S11| {level:.1f} dB at the sweep end: no resonance inside the sweep" if at_end
+             else f"resonance {f_res / 1e6:.1f} MHz, {level:.1f} dB")
+    out = [("resonance", f_res, level, label)]
     for lo, hi in touchstone.band_below_db(f, s11, MATCH_LEVEL_DB):
         if lo <= f_res <= hi:
             out += [("edge", e, MATCH_LEVEL_DB, f"{MATCH_LEVEL_DB:.0f} dB edge {e / 1e6:.1f} MHz") for e in (lo, hi)]
@@ -79,8 +82,8 @@ def s11_figure(title: str, band_hz: tuple[float, float], curves: list[tuple[np.n
     for panel in (ax, zoom):
         panel.axvspan(lo, hi, color="#c6f6d5", alpha=0.7, label="target band", lw=0)
         panel.axhline(MATCH_LEVEL_DB, color="#718096", lw=0.7, ls="--")
-        for f, s, style in curves:
-            panel.plot(f / 1e6, s, **style)
+        for f, s, style in curves:  # the zoom shows the sweep's own points
+            panel.plot(f / 1e6, s, **(style if panel is ax else {**style, "marker": ".", "ms": 3, "label": None}))
         for kind, f, s, label in markers:
             shape, color = MARKER_STYLE[kind]
             panel.plot([f / 1e6], [s], shape, color=color, ms=8, mew=1.6, label=label if panel is ax else None, zorder=5)
