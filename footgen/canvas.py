@@ -117,6 +117,10 @@ class Canvas:
     def texts(self) -> list[Text]:
         return [i for i in self.items if isinstance(i, Text)]
 
+    def layered(self) -> list:
+        """Shapes first, then text on top (a label's background masks the lines behind it)."""
+        return [i for i in self.items if not isinstance(i, Text)] + self.texts
+
     @property
     def bounds(self) -> Box:
         return Box(0.0, 0.0, self.width, self.height)
@@ -131,7 +135,7 @@ class Canvas:
             f'font-family="{FONT_FAMILY}">',
             f'<rect x="0" y="0" width="{w}" height="{h}" fill="{self.background}"/>',
         ]
-        for item in self.items:
+        for item in self.layered():
             out.append(_SVG_WRITERS[type(item)](item))
         out.append("</svg>")
         return ("\n".join(out) + "\n").encode("utf-8")
@@ -146,7 +150,7 @@ class Canvas:
         size = (PNG_SUPERSAMPLE * round(self.width * PNG_SCALE), PNG_SUPERSAMPLE * round(self.height * PNG_SCALE))
         image = Image.new("RGB", size, self.background)
         draw = ImageDraw.Draw(image, "RGBA")
-        for item in self.items:
+        for item in self.layered():
             _PNG_PAINTERS[type(item)](draw, item, k)
         image = image.reduce(PNG_SUPERSAMPLE)  # box filter over each supersampled block
         buf = io.BytesIO()

@@ -54,20 +54,33 @@ class Placed:
     lo: float
     hi: float
     span: tuple[float, float]
-    label_at: str  # "inside", "after" (beyond hi) or "before" (beyond lo)
+    label_at: str  # "inside", "between" (arrows outside), "after" (beyond hi) or "before" (beyond lo)
     lane: int = 0
 
 
-def _place_dim(dim: Dim, k: float, limit: tuple[float, float]) -> Placed:
+def _place_dim(dim: Dim, k: float, limit: tuple[float, float], avoid: Sequence[float]) -> Placed:
+    """Where the label goes: between the arrows when it fits, else between arrows drawn outside,
+    else beyond one end (for horizontal dimensions the end whose label crosses no other
+    dimension's extension line in ``avoid``, inside ``limit``)."""
     i = 0 if dim.axis == "x" else 1
     lo, hi = sorted((k * dim.a[i], k * dim.b[i]))
     along = text_width(dim.label, SIZE_DIM) if dim.axis == "x" else text_height(SIZE_DIM)
+    pad = ARROW_PX + 4
     if hi - lo >= along + 2 * ARROW_PX + 6:
         return Placed(dim, lo, hi, (lo, hi), "inside")
-    pad = ARROW_PX + 4
-    if hi + pad + along <= limit[1] or dim.axis == "y":
+    if hi - lo >= along + 6:
+        return Placed(dim, lo, hi, (lo - pad, hi + pad), "between")
+    if dim.axis == "y":
         return Placed(dim, lo, hi, (lo - pad, hi + pad + along), "after")
-    return Placed(dim, lo, hi, (lo - pad - along, hi + pad), "before")
+    after, before = (hi + pad, hi + pad + along), (lo - pad - along, lo - pad)
+
+    def crosses(span: tuple[float, float]) -> bool:
+        return any(span[0] - 3 <= x <= span[1] + 3 for x in avoid)
+
+    options = [("after", after), ("before", before)]
+    fits = [(name, span) for name, span in options if limit[0] <= span[0] and span[1] <= limit[1]] or options
+    name, span = next(((n, sp) for n, sp in fits if not crosses(sp)), fits[0])
+    return Placed(dim, lo, hi, (min(lo - pad, span[0]), max(hi + pad, span[1])), name)
 
 
 def pack_lanes(dims: Sequence[Dim], k: float, limit: tuple[float, float]) -> list[Placed]:
@@ -76,7 +89,9 @@ def pack_lanes(dims: Sequence[Dim], k: float, limit: tuple[float, float]) -> lis
     lanes: list[list[tuple[float, float]]] = []
     out = []
     for dim in dims:
-        p = _place_dim(dim, k, limit)
+        i = 0 if dim.axis == "x" else 1
+        avoid = [k * p[i] for other in dims if other is not dim for p in (other.a, other.b)]
+        p = _place_dim(dim, k, limit, avoid)
         a, b = p.span
         for n, lane in enumerate(lanes + [[]]):
             if all(b + LANE_GAP_PX <= c or d + LANE_GAP_PX <= a for c, d in lane):
@@ -146,7 +161,7 @@ def draw_dim(cv: Canvas, p: Placed, frame: Frame, lane_pos: float) -> None:
         ya, yb = sorted((A[1], B[1]))
         ends, along, mk = (ya, yb), (0.0, 1.0), lambda t: (x, t)
     lo, hi = ends
-    if hi - lo >= 2 * ARROW_PX + 2:
+    if hi - lo >= 2 * ARROW_PX + 2 and p.label_at != "between":
         cv.add(line(mk(lo), mk(hi), col))
         cv.add(arrow(mk(lo), (-along[0], -along[1]), col))
         cv.add(arrow(mk(hi), along, col))
@@ -157,17 +172,17 @@ def draw_dim(cv: Canvas, p: Placed, frame: Frame, lane_pos: float) -> None:
     label = dim.label
     tw, th = text_width(label, SIZE_DIM), text_height(SIZE_DIM)
     if dim.axis == "x":
-        if p.label_at == "inside":
+        if p.label_at in ("inside", "between"):
             cv.add(text_centered((lo + hi) / 2, y, label, SIZE_DIM, background="#ffffff"))
         elif p.label_at == "after":
-            cv.add(Text(hi + ARROW_PX + 4, y - th / 2, label, SIZE_DIM))
+            cv.add(Text(hi + ARROW_PX + 4, y - th / 2, label, SIZE_DIM, background="#ffffff"))
         else:
-            cv.add(Text(lo - ARROW_PX - 4 - tw, y - th / 2, label, SIZE_DIM))
+            cv.add(Text(lo - ARROW_PX - 4 - tw, y - th / 2, label, SIZE_DIM, background="#ffffff"))
     else:
-        if p.label_at == "inside":
+        if p.label_at in ("inside", "between"):
             cv.add(text_centered(x, (lo + hi) / 2, label, SIZE_DIM, background="#ffffff"))
         else:  # above the upper end (screen y grows downwards)
-            cv.add(Text(x - tw / 2, lo - ARROW_PX - 4 - th, label, SIZE_DIM))
+            cv.add(Text(x - tw / 2, lo - ARROW_PX - 4 - th, label, SIZE_DIM, background="#ffffff"))
 
 
 def wrap(text: str, width: float, size: float) -> list[str]:

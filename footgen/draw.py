@@ -32,6 +32,8 @@ MARGIN_PX = 16.0
 MAX_VIEW_HEIGHT_PX = 430.0
 SIZE_TITLE, SIZE_SUB, SIZE_NOTE = 17.0, 13.0, 12.0
 LINE_GAP_PX = 4.0
+#: A callout one row further down is worth this much horizontal leader (px).
+NOTE_ROW_COST_PX = 120.0
 #: Coordinates equal within this are the same line (mm): the layout is snapped to a 1 nm grid.
 GRID_SLACK_MM = 1e-5
 COLORS = {
@@ -90,8 +92,10 @@ class Plane:
 
 
 def unrotate(layout: Layout, rotation_deg: int) -> Plane:
-    turn = lambda g: affinity.rotate(g, -rotation_deg, origin=(0.0, 0.0))  # noqa: E731
-    c, s = round(math.cos(math.radians(rotation_deg))), round(math.sin(math.radians(rotation_deg)))
+    def turn(g: BaseGeometry) -> BaseGeometry:
+        return affinity.rotate(g, -rotation_deg, origin=(0.0, 0.0))
+
+    c, s = _unit_cs(rotation_deg)
 
     def pt(p: Point) -> Point:
         x, y = p
@@ -326,24 +330,25 @@ def _notes(cv: Canvas, notes: Sequence[Note], frame: Frame, top: float) -> float
         tw = text_width(note.label, SIZE_NOTE)
         others = [ox for ox, _ in targets if ox != tx]
         candidates = [tx - 6, tx + 6 - tw] + [ox + 6 for ox in others] + [ox - 6 - tw for ox in others]
-        candidates = sorted({min(max(c, MARGIN_PX), cv.width - MARGIN_PX - tw) for c in candidates}, key=lambda c: (abs(c + 6 - tx) if c <= tx else c - tx, c))
-        placed = None
+        # nearest first: the text's distance from the leader's column, then from tx - 6
+        candidates = sorted({min(max(c, MARGIN_PX), cv.width - MARGIN_PX - tw) for c in candidates}, key=lambda c: abs(c - tx + 6))
+        placed, best = None, math.inf
         for row in range(2 * len(notes) + 1):
             y = top + row * row_h
             for x in candidates:
                 mine = Box(x, y, x + tw, y + th)
-                if any(mine.grow(4).intersects(b) for b in taken) or any(x - 3 <= ox <= x + tw + 3 for ox in others):
+                cost = max(x - tx, tx - x - tw, 0.0) + NOTE_ROW_COST_PX * row
+                if cost >= best or any(mine.grow(4).intersects(b) for b in taken) or any(x - 3 <= ox <= x + tw + 3 for ox in others):
                     continue
-                placed = (x, y, mine)
-                break
-            if placed:
-                break
-        x, y, mine = placed if placed else (min(max(tx - 6, MARGIN_PX), cv.width - MARGIN_PX - tw), top + (2 * len(notes) + 1) * row_h, None)
-        mine = mine or Box(x, y, x + tw, y + th)
+                placed, best = (x, y, mine), cost
+        if placed is None:  # a row of its own below everything placed so far
+            x, y = candidates[0], max([top] + [b.y1 + 8 for b in taken])
+            placed = (x, y, Box(x, y, x + tw, y + th))
+        x, y, mine = placed
         ax = min(max(tx, x + 4), x + tw - 4)
         cv.add(Shape(((tx, ty), (tx, y - 4), (ax, y - 4), (ax, y)), stroke=COLORS["note"], width=0.8, closed=False))
         cv.add(Circle(tx, ty, 2.0, fill=COLORS["note"]))
-        cv.add(Text(x, y, note.label, SIZE_NOTE, color=COLORS["text"]))
+        cv.add(Text(x, y, note.label, SIZE_NOTE, color=COLORS["text"], background="#ffffff"))
         taken.append(mine)
         bottom = max(bottom, mine.y1)
     return bottom
@@ -395,10 +400,6 @@ def _legend(cv: Canvas, y: float, with_violations: bool) -> float:
         cv.add(Text(x + 24, y, label, SIZE_NOTE))
         x += w
     return y + th + 6
-
-
-def render_svg(layout: Layout, title: str, subtitle: str, violations: Sequence = ()) -> bytes:
-    return drawing(layout, title, subtitle, violations).svg()
 
 
 def render_svg_png(layout: Layout, title: str, subtitle: str, violations: Sequence = ()) -> tuple[bytes, bytes]:
