@@ -247,3 +247,16 @@ def test_smith_chart_circles_carry_their_values() -> None:
         for sign in ("+", "-"):
             px, py = texts[f"{sign}j{x:g}"]
             assert px * px + py * py == pytest.approx(1.09**2)  # just outside the rim, where the arc ends
+
+
+def test_predict_plot_is_deterministic_and_marks_the_resonance() -> None:
+    from footgen.prediction import Prediction, plot_s11
+
+    spec = load_spec(ROOT / "templates" / "ism-433-meander.json")
+    f = np.linspace(0.8 * spec.target.center_hz, 1.2 * spec.target.center_hz, 201)
+    s11 = _series_rlc_s11(f, spec.target.center_hz, 60.0)
+    prediction = Prediction(spec, "series RLC (test)", f, 50.0 * (1 + s11) / (1 - s11))
+    svg, png = plot_s11(prediction)
+    assert (svg, png) == plot_s11(prediction)
+    text = svg.decode("utf-8")
+    assert f"resonance {spec.target.center_hz / 1e6:.1f} MHz" in text and "(zoom)" in text and "worst in band" in text
