@@ -120,10 +120,9 @@ def predict_spec(spec: Spec, *, model: str = DEFAULT_MODEL, progress: Callable[[
     zin = rm.zin_ohm(freqs, ifa, progress=progress)
     radiation = None
     if model in RADIATION_MODELS:
-        from footgen.radiation import SUMMARY_STEP_DEG, RadiationSummary, mom_pattern
+        from footgen.radiation import mom_summary
 
-        radiation = RadiationSummary.of(mom_pattern(ifa, f0, float(freqs.max()), SUMMARY_STEP_DEG,
-                                                    mesh=RADIATION_MODELS[model]))
+        radiation = mom_summary(ifa, f0, float(freqs.max()), mesh=RADIATION_MODELS[model])
     return Prediction(spec, rm.label, freqs, np.asarray(zin, complex), radiation)
 
 

@@ -13,15 +13,13 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-from footgen.physics.farfield import Pattern, db10, pattern_grid, solve_radiation
+from footgen.physics.farfield import Pattern, PowerBudget, db10, pattern_grid, peak_intensity, solve_radiation
 from footgen.physics.ifa import PrintedIfa
 
 if TYPE_CHECKING:
     from footgen.spec import Spec
 
 Z0_OHM = 50.0
-#: grid step (degrees) of the pattern predict searches for the peak realised gain
-SUMMARY_STEP_DEG = 5.0
 #: grid step (degrees) of the pattern files (cuts, 3-D view, CSV)
 FILE_STEP_DEG = 2.0
 #: the three principal cuts: (title, the fixed angle, its value in degrees)
@@ -31,6 +29,16 @@ CUTS = (("x-z plane (phi = 0)", "phi", 0.0), ("y-z plane (phi = 90)", "phi", 90.
 DB_RANGE = 25.0
 #: the 3-D surface uses every n-th grid line (an SVG with every 2-degree facet is megabytes)
 SURFACE_STRIDE = 3
+
+
+def mom_summary(ifa: PrintedIfa, freq_hz: float, f_max_hz: float,
+                mesh: dict[str, float] | None = None) -> "RadiationSummary":
+    """Efficiency, peak directivity and peak realised gain of ``ifa`` at ``freq_hz`` (peak found by
+    :func:`footgen.physics.farfield.peak_intensity`, no full pattern grid)."""
+    from footgen.sizing import mom_solver
+
+    seg, budget = solve_radiation(mom_solver(ifa, f_max_hz, mesh), freq_hz, Z0_OHM)
+    return RadiationSummary.from_budget(budget, peak_intensity(seg, freq_hz)[0])
 
 
 def mom_pattern(ifa: PrintedIfa, freq_hz: float, f_max_hz: float, step_deg: float,
@@ -59,9 +67,14 @@ class RadiationSummary:
 
     @classmethod
     def of(cls, pattern: Pattern) -> "RadiationSummary":
-        b = pattern.budget
-        return cls(b.freq_hz, b.radiation_efficiency, b.total_efficiency,
-                   float(db10(pattern.peak_directivity)), float(db10(pattern.peak_realised_gain)),
+        """From a pattern grid (peak = the grid's largest value)."""
+        return cls.from_budget(pattern.budget, float(pattern.intensity_w_per_sr.max()))
+
+    @classmethod
+    def from_budget(cls, b: PowerBudget, peak_w_per_sr: float) -> "RadiationSummary":
+        d_max = 4.0 * np.pi * peak_w_per_sr / b.radiated_w
+        g_max = 4.0 * np.pi * peak_w_per_sr / b.accepted_w * b.mismatch_factor
+        return cls(b.freq_hz, b.radiation_efficiency, b.total_efficiency, float(db10(d_max)), float(db10(g_max)),
                    b.accepted_w, b.radiated_w, b.conductor_loss_w, b.dielectric_loss_w)
 
     def as_dict(self) -> dict[str, float]:
@@ -100,12 +113,30 @@ def _cut(pattern: Pattern, fixed: str, value_deg: float) -> tuple[np.ndarray, np
     return angle, np.concatenate([g[:, j], g[-2:0:-1, opp]])
 
 
+def _stable_svg_ids(svg: bytes) -> bytes:
+    """Renumber matplotlib's clip-path ids in order of appearance: a polar axes' clip-path id
+    hashes an object that differs between runs even with a fixed ``svg.hashsalt``."""
+    import re
+
+    ids: dict[bytes, bytes] = {}
+
+    def sub(match: re.Match) -> bytes:
+        return ids.setdefault(match.group(0), b"clip%04d" % len(ids))
+
+    return re.sub(rb"\bp[0-9a-f]{10}\b", sub, svg)
+
+
+def _figure_bytes(fig) -> tuple[bytes, bytes]:
+    from footgen.draw import figure_bytes
+
+    svg, png = figure_bytes(fig)
+    return _stable_svg_ids(svg), png
+
+
 def plot_pattern(pattern: Pattern, title: str) -> dict[str, tuple[bytes, bytes]]:
     """``{"cuts": (svg, png), "3d": (svg, png)}``: the principal cuts (polar, dBi) and a 3-D view
     of the realised gain with the board axes drawn (deterministic bytes)."""
     from matplotlib.figure import Figure
-
-    from footgen.draw import figure_bytes
 
     peak = float(db10(pattern.peak_realised_gain))
     top = 5.0 * np.ceil(peak / 5.0)
@@ -130,7 +161,7 @@ def plot_pattern(pattern: Pattern, title: str) -> dict[str, tuple[bytes, bytes]]
     fig.suptitle(f"{title}: realised gain (dBi) at {f_mhz:.1f} MHz, peak {peak:.2f} dBi; "
                  "x: KiCad x, y: up on the canvas, z: out of F.Cu", fontsize=9)
     fig.tight_layout()
-    cuts = figure_bytes(fig)
+    cuts = _figure_bytes(fig)
 
     fig3 = Figure(figsize=(6.0, 5.5))
     ax3 = fig3.add_subplot(1, 1, 1, projection="3d")
@@ -161,7 +192,7 @@ def plot_pattern(pattern: Pattern, title: str) -> dict[str, tuple[bytes, bytes]]
     fig3.colorbar(mappable, ax=ax3, shrink=0.6, label="realised gain (dBi)")
     ax3.set_title(f"{title}: realised gain at {f_mhz:.1f} MHz\n(radius = dBi above {floor:.0f} dBi; "
                   "x: KiCad x, y: up on the canvas, z: out of F.Cu)", fontsize=9)
-    return {"cuts": cuts, "3d": figure_bytes(fig3)}
+    return {"cuts": cuts, "3d": _figure_bytes(fig3)}
 
 
 def pattern_csv(pattern: Pattern) -> bytes:

@@ -47,6 +47,8 @@ SPHERE_ORDER_MARGIN = 10
 MIN_SPHERE_ORDER = 12
 # directions evaluated per block (bounds the phase-matrix memory)
 DIRECTION_BLOCK = 512
+# grid step (degrees) of the local search for the peak intensity
+PEAK_REFINE_STEP_DEG = 2.0
 # principal-cut and 3-D pattern grid step (degrees)
 PATTERN_STEP_DEG = 2.0
 # energy balance accepted = radiated + conductor + dielectric, relative (MoM quadrature error)
@@ -166,6 +168,26 @@ def radiated_power_w(seg: SegmentCurrents, freq_hz: float) -> float:
     return float(weights @ radiation_intensity_w_per_sr(seg, freq_hz, r_hat))
 
 
+def peak_intensity(seg: SegmentCurrents, freq_hz: float) -> tuple[float, float, float]:
+    """``(U_max (W/sr), theta (rad), phi (rad))``: the largest radiation intensity, found on the
+    radiated-power quadrature points and refined on a PEAK_REFINE_STEP_DEG grid spanning two
+    quadrature spacings around the best of them (the pattern of a source of electrical radius
+    ``kR`` varies on angular scales of about ``1 / (kR + 1)``, wider than that span)."""
+    order = sphere_order(seg, freq_hz)
+    r_hat, _, angles = sphere_quadrature(order)
+    u = radiation_intensity_w_per_sr(seg, freq_hz, r_hat)
+    th0, ph0 = angles[int(np.argmax(u))]
+    half = math.pi / order
+    offsets = np.arange(-half, half + 1e-12, math.radians(PEAK_REFINE_STEP_DEG))
+    th = np.clip(th0 + offsets, 0.0, math.pi)
+    th_g, ph_g = np.meshgrid(th, ph0 + offsets, indexing="ij")
+    u_fine = radiation_intensity_w_per_sr(seg, freq_hz, direction_vectors(th_g, ph_g).reshape(-1, 3))
+    i = int(np.argmax(u_fine))
+    if u_fine[i] >= u.max():
+        return float(u_fine[i]), float(th_g.reshape(-1)[i]), float(ph_g.reshape(-1)[i] % (2.0 * math.pi))
+    return float(u.max()), float(th0), float(ph0)
+
+
 def conductor_loss_w(seg: SegmentCurrents, surface_resistance_ohm: float) -> float:
     """``1/2 int Rs |I|^2 / p dl`` over the lossy segments (linear current, exact integral)."""
     lossy = seg.loss_perimeter_m > 0.0
@@ -250,6 +272,7 @@ __all__ = [
     "far_field_components",
     "hermitian_power_w",
     "pattern_grid",
+    "peak_intensity",
     "power_budget",
     "radiated_power_w",
     "radiation_intensity_w_per_sr",
