@@ -1,9 +1,12 @@
 """Radiation of a built antenna: efficiency, directivity, realised gain and pattern from the MoM
 currents (:mod:`footgen.physics.farfield`), principal-cut and 3-D plots, far-field CSV.
 
-Frame of every angle shown to users (the board frame): x along KiCad's x axis, y up on the KiCad
-canvas (KiCad's -y, from the ground towards the antenna), z out of the front copper (F.Cu).
-theta is measured from +z, phi from +x towards +y.  Estimates never replace measurement.
+Frame of every angle shown to users: KiCad's footprint frame, x and y as in the footprint (y down
+on the canvas, origin at the feed point), z = x cross y (into the board, from F.Cu towards B.Cu);
+theta is measured from +z, phi from +x towards +y.  The solver works in the canonical frame of
+the layout (arm towards +x, ground at y < 0); the currents are mirrored and rotated into the
+footprint frame as the layout is (:func:`footgen.geometry.layout.placement_matrix`).  Estimates
+never replace measurement.
 """
 
 from __future__ import annotations
@@ -13,7 +16,15 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-from footgen.physics.farfield import Pattern, PowerBudget, db10, pattern_grid, peak_intensity, solve_radiation
+from footgen.physics.farfield import (
+    Pattern,
+    PowerBudget,
+    SegmentCurrents,
+    db10,
+    pattern_grid,
+    peak_intensity,
+    solve_radiation,
+)
 from footgen.physics.ifa import PrintedIfa
 
 if TYPE_CHECKING:
@@ -41,14 +52,27 @@ def mom_summary(ifa: PrintedIfa, freq_hz: float, f_max_hz: float,
     return RadiationSummary.from_budget(budget, peak_intensity(seg, freq_hz)[0])
 
 
+IDENTITY = (1, 0, 0, 1)
+FRAME_NOTE = "x, y: KiCad footprint axes (y down), z = x cross y (into the board)"
+
+
+def in_frame(seg: SegmentCurrents, matrix: tuple[int, int, int, int]) -> SegmentCurrents:
+    """Segments moved by the in-plane matrix ``(a, b, c, d)``; z flips with a mirror so the frame
+    stays right-handed."""
+    a, b, c, d = matrix
+    m = np.array([[a, b, 0.0], [c, d, 0.0], [0.0, 0.0, float(a * d - b * c)]])
+    return SegmentCurrents(seg.starts_m @ m.T, seg.ends_m @ m.T, seg.i_start_a, seg.i_end_a, seg.loss_perimeter_m)
+
+
 def mom_pattern(ifa: PrintedIfa, freq_hz: float, f_max_hz: float, step_deg: float,
-                mesh: dict[str, float] | None = None) -> Pattern:
+                mesh: dict[str, float] | None = None, frame: tuple[int, int, int, int] = IDENTITY) -> Pattern:
     """Pattern and power budget of ``ifa`` at ``freq_hz`` on the wire mesh a sweep up to
-    ``f_max_hz`` uses (:func:`footgen.sizing.mom_solver`; ``mesh`` as there)."""
+    ``f_max_hz`` uses (:func:`footgen.sizing.mom_solver`; ``mesh`` as there), in the frame the
+    in-plane matrix ``frame`` maps the canonical frame to."""
     from footgen.sizing import mom_solver
 
     seg, budget = solve_radiation(mom_solver(ifa, f_max_hz, mesh), freq_hz, Z0_OHM)
-    return pattern_grid(seg, budget, step_deg)
+    return pattern_grid(in_frame(seg, frame), budget, step_deg)
 
 
 @dataclass(frozen=True)
@@ -155,11 +179,12 @@ def plot_pattern(pattern: Pattern, title: str) -> dict[str, tuple[bytes, bytes]]
         axis_names = {"phi": ("+z", "+x" if value == 0.0 else "+y"), "theta": ("+x", "+y")}[fixed]
         ax.set_xticks(np.deg2rad([0, 90, 180, 270]))
         ax.set_xticklabels([f"0 ({axis_names[0]})", f"90 ({axis_names[1]})", "180", "270"], fontsize=7)
+        # phi cuts: theta clockwise from +z at the top; board plane: phi clockwise from +x at the
+        # right, so +y points down as on the KiCad canvas
+        ax.set_theta_direction(-1)
         if fixed == "phi":
             ax.set_theta_zero_location("N")
-            ax.set_theta_direction(-1)
-    fig.suptitle(f"{title}: realised gain (dBi) at {f_mhz:.1f} MHz, peak {peak:.2f} dBi; "
-                 "x: KiCad x, y: up on the canvas, z: out of F.Cu", fontsize=9)
+    fig.suptitle(f"{title}: realised gain (dBi) at {f_mhz:.1f} MHz, peak {peak:.2f} dBi; {FRAME_NOTE}", fontsize=9)
     fig.tight_layout()
     cuts = _figure_bytes(fig)
 
@@ -190,8 +215,8 @@ def plot_pattern(pattern: Pattern, title: str) -> dict[str, tuple[bytes, bytes]]
     mappable = cm.ScalarMappable(norm=norm, cmap=cm.viridis)
     fig3.subplots_adjust(left=-0.1, right=0.95, bottom=-0.05, top=0.95)
     fig3.colorbar(mappable, ax=ax3, shrink=0.6, label="realised gain (dBi)")
-    ax3.set_title(f"{title}: realised gain at {f_mhz:.1f} MHz\n(radius = dBi above {floor:.0f} dBi; "
-                  "x: KiCad x, y: up on the canvas, z: out of F.Cu)", fontsize=9)
+    ax3.set_title(f"{title}: realised gain at {f_mhz:.1f} MHz\n(radius = dBi above {floor:.0f} dBi; {FRAME_NOTE})",
+                  fontsize=9)
     return {"cuts": cuts, "3d": _figure_bytes(fig3)}
 
 
@@ -201,7 +226,7 @@ def pattern_csv(pattern: Pattern) -> bytes:
     b = pattern.budget
     head = [
         "# footgen far field from the thin-wire MoM currents; estimates never replace measurement",
-        "# frame: x = KiCad x, y = up on the KiCad canvas (KiCad -y), z = out of F.Cu; theta from +z, phi from +x",
+        f"# frame: {FRAME_NOTE}; theta from +z, phi from +x towards +y",
         f"# freq_mhz={b.freq_hz / 1e6:.6f} accepted_w={b.accepted_w:.6e} radiated_w={b.radiated_w:.6e} "
         f"conductor_loss_w={b.conductor_loss_w:.6e} dielectric_loss_w={b.dielectric_loss_w:.6e}",
         f"# radiation_efficiency={b.radiation_efficiency:.6f} total_efficiency={b.total_efficiency:.6f} "
@@ -218,7 +243,7 @@ def spec_pattern(spec: "Spec", freq_hz: float | None = None, step_deg: float = F
     """Pattern of the antenna ``spec`` builds, at ``freq_hz`` (default: the band centre), on the
     wire mesh predict's sweep uses."""
     from footgen.build import run
-    from footgen.geometry.layout import generate_copper
+    from footgen.geometry.layout import generate_copper, placement_matrix
     from footgen.model import printed_ifa
     from footgen.sizing import PREDICTION_HALF_SPAN
 
@@ -226,7 +251,7 @@ def spec_pattern(spec: "Spec", freq_hz: float | None = None, step_deg: float = F
     ifa = printed_ifa(spec, generate_copper(spec, result.sizing))
     f0 = spec.target.center_hz
     f = f0 if freq_hz is None else freq_hz
-    return mom_pattern(ifa, f, max((1 + PREDICTION_HALF_SPAN) * f0, f), step_deg)
+    return mom_pattern(ifa, f, max((1 + PREDICTION_HALF_SPAN) * f0, f), step_deg, frame=placement_matrix(spec))
 
 
 def pattern_files(pattern: Pattern, stem: str, title: str) -> dict[str, bytes]:

@@ -200,3 +200,24 @@ def test_nec2_energy_balance_is_the_cause_of_the_power_gain_gap() -> None:
     _, budget = solve_radiation(MomSolver(model), 2.2e9, 50.0)
     assert avg < 0.95
     assert budget.radiation_efficiency == pytest.approx(1.0, abs=LOSSLESS_EFFICIENCY_TOL)
+
+
+@pytest.mark.parametrize("matrix", [(-1, 0, 0, 1), (0, -1, 1, 0), (0, 1, 1, 0)])
+def test_pattern_moves_with_the_footprint_placement(matrix: tuple[int, int, int, int]) -> None:
+    """The intensity of the placed currents in direction r equals that of the canonical currents
+    in the direction the placement maps to r (geometry, no source)."""
+    from footgen.radiation import in_frame
+
+    arm = Wire((0.0, 0.0, 0.0), (0.3, 0.0, 0.0), 15, 1e-4)
+    leg = Wire((0.0, -0.1, 0.0), (0.0, 0.0, 0.0), 5, 1e-4)
+    model = WireModel((leg, arm), source_wire=0, source_segment=2)
+    seg, _ = solve_radiation(MomSolver(model), F_HZ, 50.0)
+    a, b, c, d = matrix
+    m3 = np.array([[a, b, 0.0], [c, d, 0.0], [0.0, 0.0, a * d - b * c]])
+    rng = np.random.default_rng(17)
+    r_hat = rng.normal(size=(40, 3))
+    r_hat /= np.linalg.norm(r_hat, axis=1)[:, None]
+    placed = radiation_intensity_w_per_sr(in_frame(seg, matrix), F_HZ, r_hat)
+    canonical = radiation_intensity_w_per_sr(seg, F_HZ, r_hat @ m3)  # rows: m3^T r
+    assert np.allclose(placed, canonical, rtol=1e-9, atol=0.0)
+    assert np.ptp(canonical) > 0.1 * canonical.max()  # the pattern is not isotropic

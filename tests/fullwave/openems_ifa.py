@@ -490,9 +490,13 @@ def main(argv: list[str] | None = None) -> int:
                              "copper becomes a lossy conducting sheet")
     parser.add_argument("--end-criterion", type=float, default=END_CRITERION,
                         help="energy decay that ends the run (recorded in the result)")
+    parser.add_argument("--loss-tangent", type=float, default=None,
+                        help="diagnostic: replace the laminate's loss tangent (recorded in the case)")
     args = parser.parse_args(argv)
     globals()["END_CRITERION"] = args.end_criterion
     cases = load_cases() if args.all else [case_by_name(n) for n in args.case]
+    if args.loss_tangent is not None:
+        cases = [{**c, "laminate": {**c["laminate"], "loss_tangent": args.loss_tangent}} for c in cases]
     args.out = args.out.resolve()
     args.out.mkdir(parents=True, exist_ok=True)
     for case in cases:
