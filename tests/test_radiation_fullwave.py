@@ -96,7 +96,16 @@ def test_radiation_efficiency_and_peak_gain_match_openems(name: str) -> None:
     assert abs(gain - gain_ref) <= PEAK_GAIN_DB_TOL, msg
 
 
-@pytest.mark.parametrize("name", CASES)
+# measured: openEMS's far field integrated over the sphere exceeds its Prad (the Poynting flux
+# through the near-field box, checked against our own integral of the stored box fields) by
+# 7.0-7.3 % on dev_straight_16 and 3.1-3.5 % on val_meander_a (coarse mesh, -40 dB end)
+OPENEMS_INCONSISTENCY = {"dev_straight_16": "7.0-7.3 %", "val_meander_a": "3.1-3.5 %"}
+
+
+@pytest.mark.parametrize("name", [
+    pytest.param(n, marks=pytest.mark.xfail(strict=True, reason=(
+        f"openEMS's sphere-integrated far field exceeds its box Poynting flux by {OPENEMS_INCONSISTENCY[n]}")))
+    for n in CASES])
 def test_openems_far_field_power_matches_its_reported_prad(name: str) -> None:
     """The reference's own consistency: its far field integrated over the sphere against its Prad."""
     for row in _stored(name)["radiation"]["frequencies"]:
