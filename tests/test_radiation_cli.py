@@ -17,6 +17,8 @@ from footgen.radiation import FILE_STEP_DEG, RadiationSummary
 from conftest import ROOT
 
 PALLET = ROOT / "examples" / "pallet-tag-868.json"  # the quickest example to size and solve
+CSV_DB_ROUNDING = 2e-4  # the CSV prints dB to 1e-4
+SPHERE_MEAN_TOL = 0.01  # 2-degree product rule of a smooth pattern (common practice, no source)
 PATTERN_FILES = ("tag-cuts.png", "tag-cuts.svg", "tag-3d.png", "tag-3d.svg", "tag.csv")
 
 
@@ -41,13 +43,13 @@ def test_pattern_writes_plots_and_csv_with_identical_bytes(tmp_path: Path) -> No
     assert rows.shape == (n_theta * n_phi, 5)
     # gain = directivity + 10 log10(radiation efficiency), realised gain below gain
     eff = float(next(t for t in text if "radiation_efficiency=" in t).split("radiation_efficiency=")[1].split()[0])
-    assert np.allclose(rows[:, 3] - rows[:, 2], 10 * np.log10(eff), atol=2e-4)
-    assert np.all(rows[:, 4] <= rows[:, 3] + 1e-4)
+    assert np.allclose(rows[:, 3] - rows[:, 2], 10 * np.log10(eff), atol=CSV_DB_ROUNDING)
+    assert np.all(rows[:, 4] <= rows[:, 3] + CSV_DB_ROUNDING)
     # directivity averages to 1 over the sphere (the grid's own quadrature, 2-degree steps)
     theta = np.deg2rad(rows[:, 0])
     w = np.sin(theta) * np.deg2rad(FILE_STEP_DEG) ** 2
     w[(rows[:, 0] == 0.0) | (rows[:, 0] == 180.0)] *= 0.5
-    assert float(np.sum(10 ** (rows[:, 2] / 10) * w) / (4 * np.pi)) == pytest.approx(1.0, abs=0.01)
+    assert float(np.sum(10 ** (rows[:, 2] / 10) * w) / (4 * np.pi)) == pytest.approx(1.0, abs=SPHERE_MEAN_TOL)
 
 
 def test_pattern_refuses_a_bad_frequency_in_one_line(tmp_path: Path) -> None:
