@@ -113,6 +113,45 @@ def test_openems_far_field_power_matches_its_reported_prad(name: str) -> None:
         assert row["p_rad_w"] == pytest.approx(row["p_rad_openems_w"], rel=OPENEMS_SELF_CONSISTENCY_REL_TOL, abs=0.0), row["freq_hz"]
 
 
+# the laminate-loss control: the straight board solved again with loss tangent 0 (same mesh)
+LOSSLESS_CONTROL = ("dev_straight_16", "dev_straight_16_lossless")
+
+
+def _ours_efficiency(case: dict, freq_hz: float) -> float:
+    from footgen.radiation import mom_summary
+
+    ifa = ifa_cases.case_to_ifa(case)
+    return mom_summary(ifa, freq_hz, ifa_cases.sweep_band_hz(case)[1]).radiation_efficiency
+
+
+def test_laminate_loss_matches_openems_against_its_lossless_control() -> None:
+    """Efficiency of the lossy board over that of the same board with a lossless laminate, in
+    both codes: the laminate's share of the loss, free of openEMS's port/box power calibration."""
+    lossy, lossless = (_stored(n) for n in LOSSLESS_CONTROL)
+    assert lossless["case"]["laminate"]["loss_tangent"] == 0.0
+    assert {k: v for k, v in lossless["case"].items() if k != "laminate"} == {
+        k: v for k, v in lossy["case"].items() if k != "laminate"}
+    assert {**lossless["case"]["laminate"], "loss_tangent": None} == {**lossy["case"]["laminate"], "loss_tangent": None}
+    by_f = {r["freq_hz"]: r for r in lossy["radiation"]["frequencies"]}
+    for row in lossless["radiation"]["frequencies"]:
+        ref = _openems_figures(by_f[row["freq_hz"]])[0] / _openems_figures(row)[0]
+        ours = _ours_efficiency(lossy["case"], row["freq_hz"]) / _ours_efficiency(lossless["case"], row["freq_hz"])
+        msg = f"{row['freq_hz'] / 1e6:.0f} MHz: lossy / lossless efficiency ours {ours:.4f}, openEMS {ref:.4f}"
+        print(msg)
+        # source: openEMS 0.0.35 (Debian package, FDTD) NF2FF, stored lossy and lossless runs
+        assert abs(ours / ref - 1.0) <= EFFICIENCY_REL_TOL, msg
+
+
+@pytest.mark.xfail(strict=True, reason=(
+    "openEMS's Prad / P_acc of the lossless-laminate board is 1.056-1.060 (coarse mesh): its box "
+    "Poynting flux and its lumped-port power disagree by about 6 %, so its absolute efficiencies "
+    "read about 6 % high"))
+def test_openems_lossless_board_radiates_no_more_than_it_accepts() -> None:
+    for row in _stored(LOSSLESS_CONTROL[1])["radiation"]["frequencies"]:
+        # source: openEMS 0.0.35 NF2FF and lumped port of the same run (energy conservation)
+        assert _openems_figures(row)[0] <= 1.0, row["freq_hz"]
+
+
 @pytest.mark.slow
 @pytest.mark.skipif(os.environ.get("FOOTGEN_SLOW") != "1", reason="set FOOTGEN_SLOW=1 (openEMS run)")
 def test_radiation_rerun_reproduces_stored_result(tmp_path: Path) -> None:
