@@ -173,8 +173,11 @@ def draw_cmd(spec: Path, output: Path, force: bool) -> None:
 @click.option("--s1p", "s1p", type=click.Path(dir_okay=False, path_type=Path), help="Write the predicted S11 as Touchstone (.s1p).")
 @click.option("--plot", "plot", type=click.Path(dir_okay=False, path_type=Path), help="Write the S11 plot: FILE.png and FILE.svg.")
 @click.option("--model", default=None, help="Response model: mom (default) or tline (fast, rough).")
+@click.option("--json", "json_path", type=click.Path(dir_okay=False, path_type=Path),
+              help="Write the summary figures as JSON (resonance, S11, band, efficiency, gain).")
 @click.option("--force", is_flag=True, help="Replace files edited by hand.")
-def predict_cmd(spec: Path, s1p: Path | None, plot: Path | None, model: str | None, force: bool) -> None:
+def predict_cmd(spec: Path, s1p: Path | None, plot: Path | None, model: str | None, json_path: Path | None,
+                force: bool) -> None:
     """Predict the built antenna's input impedance and S11 around the band: resonance, Zin at
     the band centre, min S11, the -10 dB band and bandwidth.
 
@@ -198,6 +201,8 @@ def predict_cmd(spec: Path, s1p: Path | None, plot: Path | None, model: str | No
     files: dict[Path, bytes] = {}
     if s1p is not None:
         files[s1p] = touchstone_text(prediction)
+    if json_path is not None:
+        files[json_path] = prediction.json_bytes()
     if plot is not None:
         svg, png = plot_s11(prediction)
         files[plot.with_suffix(".png")] = png
@@ -218,6 +223,37 @@ def _progress_printer(what: str):
             click.echo(f"  {what} {done}/{total}", err=True)
 
     return progress
+
+
+@main.command("pattern")
+@click.argument("spec", type=click.Path(path_type=Path))
+@click.option("-o", "--out", "out", required=True, type=click.Path(dir_okay=False, path_type=Path),
+              help="File stem: writes STEM-cuts.png/.svg, STEM-3d.png/.svg and STEM.csv.")
+@click.option("--freq-mhz", type=float, default=None, help="Frequency in MHz (default: the band centre).")
+@click.option("--force", is_flag=True, help="Replace files edited by hand.")
+def pattern_cmd(spec: Path, out: Path, freq_mhz: float | None, force: bool) -> None:
+    """Radiation pattern of the built antenna from the MoM currents: the three principal cuts and
+    a 3-D view of the realised gain (dBi), and the far field as CSV.
+
+    \b
+    Example:
+      footgen pattern examples/soil-probe-2g4.json -o soil-pattern
+    """
+    from footgen.outputs import write_outputs
+    from footgen.radiation import RadiationSummary, pattern_files, spec_pattern
+    from footgen.spec import load_spec
+
+    if freq_mhz is not None and not (freq_mhz > 0.0):
+        raise click.BadParameter(f"{freq_mhz!r}: give a positive frequency in MHz", param_hint="--freq-mhz")
+    loaded = load_spec(spec)
+    click.echo("sizing and solving ...", err=True)
+    pattern = spec_pattern(loaded, None if freq_mhz is None else freq_mhz * 1e6)
+    for line in RadiationSummary.of(pattern).lines():
+        click.echo(line)
+    files = pattern_files(pattern, out.name, loaded.name)
+    write_outputs(out.parent, files, force=force)
+    for name in sorted(files):
+        click.echo(f"wrote {out.parent / name}")
 
 
 @main.command("testboard")

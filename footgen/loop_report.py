@@ -119,6 +119,7 @@ class ReportData:
     matched_on: str  # "measured", "corrected prediction" or "predicted"
     corrected_s11: np.ndarray | None = None  # the prediction carried over by a calibration
     calibration: object | None = None  # footgen.retune.Calibration of the previous revision
+    radiation: object | None = None  # footgen.radiation.RadiationSummary at f0 (MoM models only)
 
 
 def _sweep(spec: Spec, measurement: Measurement | None) -> np.ndarray:
@@ -170,7 +171,20 @@ def prepare(spec: Spec, measurement: Measurement | None = None, *, calibration=N
     band = (max(spec.target.low_hz, f[0]), min(spec.target.high_hz, f[-1]))
     say(f"report: matching networks at {f0 / 1e6:.2f} MHz ({matched_on} Zin, {series})")
     plan = matching.plan_match(f_load, z_load, f0, band_hz=band, series=series)
-    return ReportData(spec, model, sz, layout, violations, f, s_pred, measurement, plan, matched_on, s_corr, calibration)
+    return ReportData(spec, model, sz, layout, violations, f, s_pred, measurement, plan, matched_on, s_corr, calibration,
+                      _radiation(spec, sz, model, f))
+
+
+def _radiation(spec: Spec, sz: Sizing, model: str, f: np.ndarray):
+    """Efficiency and peak realised gain at the band centre from the MoM currents, or None."""
+    from footgen.prediction import RADIATION_MODELS
+
+    if model not in RADIATION_MODELS:
+        return None
+    from footgen.radiation import mom_summary
+    from footgen.retune import model_ifa
+
+    return mom_summary(model_ifa(spec, sz), spec.target.center_hz, float(f.max()), mesh=RADIATION_MODELS[model])
 
 
 def _stem(spec: Spec) -> str:
@@ -261,6 +275,8 @@ def markdown(data: ReportData, images: dict[str, str], diff_md: str | None = Non
         lines.append(f"| measured | {meas.freq_hz / 1e6:.2f} MHz | {meas.s11_db:.1f} dB | {_z(meas.zin_ohm)} | "
                      f"{_band_text(data.measured.freq_hz, data.measured.s11, f0)} |")
         lines += ["", f"Measured / predicted dip frequency: {meas.freq_hz / f_pred:.4f}."]
+    if data.radiation is not None:
+        lines += [""] + [f"Predicted {line}." for line in data.radiation.lines()]
     best = plan.best
     direct = plan.candidates[0]
     lines += ["", "## Match", "", f"![Smith chart]({images['smith']})", "",

@@ -71,13 +71,19 @@ def _mom_zin(freq_hz: np.ndarray, ifa: PrintedIfa, progress: Callable[[int, int]
     (a sweep reaching beyond MOM_MESH_STRETCH times that frequency is meshed for its top).
     ``mesh``: :class:`footgen.physics.wires.MeshControl` settings other than the defaults."""
     f = np.atleast_1d(np.asarray(freq_hz, float))
-    mesh_hz = MOM_MESH_PER_ESTIMATE * quarter_wave_estimate_hz(ifa)
-    if f.max() > MOM_MESH_STRETCH * mesh_hz:  # far above: mesh for the sweep itself
-        mesh_hz = float(f.max())
-    solver = MomSolver(ifa_wire_model(ifa, mesh_hz, control=MeshControl(f_max_hz=mesh_hz, **(mesh or {}))))
+    solver = mom_solver(ifa, float(f.max()), mesh)
     if f.size < MOM_INTERPOLATE_FROM:
         return solver.sweep_direct(f, progress=progress)
     return solver.sweep_interpolated(f, progress=progress)
+
+
+def mom_solver(ifa: PrintedIfa, f_max_hz: float, mesh: dict[str, float] | None = None) -> MomSolver:
+    """The MoM solver :func:`_mom_zin` uses for ``ifa`` up to ``f_max_hz`` (same wire mesh), so the
+    far field (:mod:`footgen.radiation`) sees the currents of the predicted S11."""
+    mesh_hz = MOM_MESH_PER_ESTIMATE * quarter_wave_estimate_hz(ifa)
+    if f_max_hz > MOM_MESH_STRETCH * mesh_hz:  # far above: mesh for the sweep itself
+        mesh_hz = f_max_hz
+    return MomSolver(ifa_wire_model(ifa, mesh_hz, control=MeshControl(f_max_hz=mesh_hz, **(mesh or {}))))
 
 
 def _mom_resonance_hz(ifa: PrintedIfa, mesh: dict[str, float] | None = None) -> float:

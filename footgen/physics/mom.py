@@ -689,6 +689,28 @@ class MomSolver:
         """Basis-function current amplitudes (A) for 1 V at the source."""
         return self._solve(self.impedance_matrix(freq_hz))
 
+    # -- accessors for post-processing (far field, loss budget) ------------------------------
+    def segment_currents(self, basis_currents: np.ndarray) -> tuple[np.ndarray, ...]:
+        """Segment geometry and current for basis amplitudes ``basis_currents`` (A):
+        ``(starts_m, ends_m, i_start_a, i_end_a, loss_perimeter_m)``; the current on each segment
+        runs linearly from ``i_start_a`` at its start node to ``i_end_a`` at its end node, positive
+        along the segment (start to end); perimeter 0 marks a lossless segment."""
+        m = self.mesh
+        ends = np.zeros(2 * m.lengths.shape[0], complex)
+        np.add.at(ends, 2 * m.half_seg + m.half_loc, m.half_sig * np.asarray(basis_currents)[m.half_basis])
+        return m.starts, m.ends, ends[0::2], ends[1::2], m.perimeters
+
+    def input_current_a(self, basis_currents: np.ndarray) -> complex:
+        """Current through the delta-gap source (A) for basis amplitudes driven by 1 V."""
+        return complex(self._v @ np.asarray(basis_currents))
+
+    def laminate_impedance_matrix(self, freq_hz: float) -> np.ndarray | None:
+        """The laminate's part of ``Z``, ``Phi_slab / (j w eps0)`` (ohm), or None without a laminate;
+        with a loss tangent its Hermitian part is the power the laminate absorbs."""
+        if self._slab_phi is None:
+            return None
+        return self._slab_phi * (1.0 / (1j * 2.0 * math.pi * freq_hz * EPS0_F_PER_M))
+
     def _solve(self, z: np.ndarray) -> np.ndarray:
         """Currents for the impedance matrix ``z`` (overwritten) and the source vector."""
         return np.linalg.solve(z, self._v.astype(complex))
