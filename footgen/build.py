@@ -12,6 +12,7 @@ from pathlib import Path
 from footgen import __version__
 from footgen.geometry.layout import Layout, Sizing, build_layout
 from footgen.kicad.writer import FootprintMeta, render
+from footgen.errors import FootgenError, SpecError
 from footgen.outputs import write_outputs
 from footgen.rules import Violation, check, report_dict
 from footgen.sizing import size
@@ -132,3 +133,25 @@ def write_build(result: BuildResult, out_dir: Path, *, force: bool = False, allo
 def build_spec_file(spec_path: Path, out_dir: Path, *, force: bool = False, allow_violations: bool = False) -> tuple[BuildResult, list[Path]]:
     result = run(load_spec(spec_path))
     return result, write_build(result, out_dir, force=force, allow_violations=allow_violations)
+
+
+def build_spec_files(spec_paths: list[Path], out_dir: Path, *, force: bool = False,
+                     allow_violations: bool = False) -> list[tuple[BuildResult, list[Path]]]:
+    """Build several specs into one folder in one process.  Every spec is loaded, sized and
+    checked before anything is written, so bad input in any of them leaves the disk untouched;
+    an error names the spec file it came from."""
+    results: list[BuildResult] = []
+    names: dict[str, Path] = {}
+    for path in spec_paths:
+        try:
+            result = run(load_spec(path))
+        except FootgenError as exc:
+            if len(spec_paths) > 1:
+                exc.args = (f"{path}: {exc}",)
+            raise
+        earlier = names.setdefault(result.spec.name, path)
+        if earlier != path:
+            raise SpecError("$.name", result.spec.name, f"{path} and {earlier} share this name; "
+                            "give each spec its own name or build them into separate folders")
+        results.append(result)
+    return [(r, write_build(r, out_dir, force=force, allow_violations=allow_violations)) for r in results]
