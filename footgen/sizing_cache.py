@@ -136,11 +136,11 @@ def sync_board_edge() -> None:
     if not _board_edge_state["loaded"]:
         _board_edge_state["loaded"] = True
         try:
-            rows = json.loads(path.read_text("utf-8"))
-            board_edge.add_solved({tuple(row[:5]): row[5] for row in rows if len(row) == 6})
+            stored = {tuple(row[:5]): row[5] for row in json.loads(path.read_text("utf-8")) if len(row) == 6}
+            board_edge.add_solved(stored)
+            _board_edge_state["stored"] = len(stored)
         except (OSError, ValueError, TypeError):
-            pass
-        _board_edge_state["stored"] = len(board_edge.solved_cross_sections())
+            _board_edge_state["stored"] = 0
     solved = board_edge.solved_cross_sections()
     if len(solved) > _board_edge_state["stored"]:
         _board_edge_state["stored"] = len(solved)
