@@ -7,16 +7,20 @@ from __future__ import annotations
 
 import json
 from dataclasses import dataclass
+from functools import cached_property
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from footgen import __version__
 from footgen.geometry.layout import Layout, Sizing, build_layout
-from footgen.kicad.writer import FootprintMeta, render
 from footgen.errors import FootgenError, SpecError
 from footgen.outputs import write_outputs
 from footgen.rules import Violation, check, report_dict
 from footgen.sizing import size
 from footgen.spec import Spec, load_spec
+
+if TYPE_CHECKING:
+    from footgen.kicad.writer import FootprintMeta
 
 SAFETY_NOTE = (
     "footgen's dimensions and predictions are estimates: they never replace measurement of the "
@@ -31,7 +35,13 @@ class BuildResult:
     sizing: Sizing
     layout: Layout
     violations: tuple[Violation, ...]
-    footprint_text: str
+
+    @cached_property
+    def footprint_text(self) -> str:
+        """The .kicad_mod text (rendered on first use: `check` never needs it)."""
+        from footgen.kicad.writer import render
+
+        return render(self.layout, footprint_meta(self.spec))
 
     @property
     def ok(self) -> bool:
@@ -43,6 +53,8 @@ class BuildResult:
 
 
 def footprint_meta(spec: Spec) -> FootprintMeta:
+    from footgen.kicad.writer import FootprintMeta
+
     band = f"{spec.target.low_hz / 1e6:g}-{spec.target.high_hz / 1e6:g} MHz"
     style = "meandered inverted-F antenna" if spec.style.kind == "meandered" else "inverted-F antenna"
     description = f"Printed {style}, {band}, eps_r {spec.laminate.eps_r:g}, {spec.laminate.thickness_mm:g} mm laminate"
@@ -63,11 +75,11 @@ def footprint_meta(spec: Spec) -> FootprintMeta:
 
 
 def run(spec: Spec) -> BuildResult:
-    """Size, lay out, check and render one spec (no I/O)."""
+    """Size, lay out and check one spec (no I/O); the footprint text is rendered when first read."""
     sizing = size(spec)
     layout = build_layout(spec, sizing)
     violations = tuple(check(layout, spec.fab))
-    return BuildResult(spec, sizing, layout, violations, render(layout, footprint_meta(spec)))
+    return BuildResult(spec, sizing, layout, violations)
 
 
 def report_markdown(result: BuildResult) -> str:

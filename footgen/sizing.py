@@ -474,6 +474,21 @@ def _refine_passes(
     return x, g, pitch, pass_pitch
 
 
+#: Threads evaluating independent trials of the refinement (start grid, Jacobian columns): the
+#: model set-up runs in Python, the fills and LAPACK solves release the GIL.
+SEARCH_WORKERS = 2
+
+
+def _evaluate_all(fn: Callable[[dict[str, float]], np.ndarray], trials: list[dict[str, float]]) -> list[np.ndarray]:
+    """``[fn(t) for t in trials]``, independent trials spread over SEARCH_WORKERS threads."""
+    if len(trials) < 2:
+        return [fn(t) for t in trials]
+    from concurrent.futures import ThreadPoolExecutor
+
+    with ThreadPoolExecutor(max_workers=SEARCH_WORKERS) as pool:
+        return list(pool.map(fn, trials))
+
+
 def _refine_pass(
     spec: Spec, rm: ResponseModel, h: float, x0: dict[str, float], pitch: float | None, *, first: bool
 ) -> tuple[dict[str, float], float, bool]:
@@ -510,20 +525,20 @@ def _refine_pass(
         "spacing": list(np.geomspace(lo["spacing"], max(lo["spacing"], min(hi["spacing"], REFINE_GRID_SPACING_SPAN * lo["spacing"])), REFINE_GRID_SPACING_POINTS)),
     }
     axes = [grids[name] if name in free and first else [x[name]] for name in ("length", "spacing")]
-    for length in axes[0]:
-        for spacing in axes[1]:
-            trial = clamp({"length": length, "spacing": spacing})
-            r_trial = gamma(trial)
-            if np.hypot(*r_trial) < np.hypot(*r):
-                x, r = trial, r_trial
+    trials = [clamp({"length": length, "spacing": spacing}) for length in axes[0] for spacing in axes[1]]
+    for trial, r_trial in zip(trials, _evaluate_all(gamma, trials)):
+        if np.hypot(*r_trial) < np.hypot(*r):
+            x, r = trial, r_trial
     for _ in range(REFINE_ITERATIONS):
         if np.hypot(*r) < REFINE_GAMMA_TOL:
             break
         jac = np.empty((2, len(free)))
+        forward = [{**x, name: x[name] + steps[name]} for name in free]
+        inside = [trial[name] <= hi[name] for trial, name in zip(forward, free)]
+        r_forward = iter(_evaluate_all(gamma, [t for t, ok in zip(forward, inside) if ok]))
         for j, name in enumerate(free):
-            trial = dict(x)
-            trial[name] = x[name] + steps[name]
-            r_step = gamma(trial) if trial[name] <= hi[name] else None
+            trial = forward[j]
+            r_step = next(r_forward) if inside[j] else None
             if r_step is None or r_step[0] == 1.0:
                 trial[name] = x[name] - steps[name]
                 r_step = gamma(trial)

@@ -44,8 +44,10 @@ of Moments in Electromagnetics", 2nd ed. 2014, ch. 3 and 5):
 from __future__ import annotations
 
 import math
+import threading
 from collections.abc import Callable
 from concurrent.futures import Future, ThreadPoolExecutor
+from contextlib import contextmanager
 from dataclasses import dataclass, field
 from functools import lru_cache
 
@@ -893,10 +895,27 @@ def _blas_controller():
     return ThreadpoolController()
 
 
+_blas_limit: dict = {"depth": 0, "limiter": None, "lock": threading.Lock()}
+
+
+@contextmanager
 def blas_threads_limited():
     """Context in which the BLAS libraries numpy and scipy loaded use BLAS_THREADS threads
-    (threadpoolctl), whatever OPENBLAS_NUM_THREADS the caller's process started with."""
-    return _blas_controller().limit(limits=BLAS_THREADS, user_api="blas")
+    (threadpoolctl), whatever OPENBLAS_NUM_THREADS the caller's process started with.  Nested and
+    concurrent uses (solves in several threads) share one limit, lifted when the last one ends."""
+    state = _blas_limit
+    with state["lock"]:
+        if state["depth"] == 0:
+            state["limiter"] = _blas_controller().limit(limits=BLAS_THREADS, user_api="blas")
+        state["depth"] += 1
+    try:
+        yield
+    finally:
+        with state["lock"]:
+            state["depth"] -= 1
+            if state["depth"] == 0:
+                state["limiter"].restore_original_limits()
+                state["limiter"] = None
 
 
 def half_divergence_sign(mesh: _Mesh, halves: np.ndarray) -> np.ndarray:
