@@ -7,8 +7,9 @@ over the list; f_res = min |S11| (50 ohm) on that list.  Each timing is the best
 (the machine is shared).  BLAS is limited to one thread (nec2++ is single-threaded).  Columns
 "ours" use our default direct sweep, which also uses the machine's second core (solves in worker
 threads while the main thread fills the next matrix).  For the ~800-segment model both codes are
-also timed fairly both ways: one core each (ours with no worker thread) and two cores each
-(nec2++ in two processes, each solving half the frequency list).  Unknowns: ours = triangle
+also timed fairly both ways with our mixed-precision solve (as dense prediction sweeps use it):
+one core each (ours with no worker thread) and two cores each (nec2++ in two processes, each
+solving half the frequency list); ours with double-precision solves on one core is printed too.  Unknowns: ours = triangle
 basis functions (junctions add some), nec2++ = segments.
 
 Usage: python benchmarks/solver_vs_nec2.py
@@ -121,9 +122,10 @@ def fair_comparison(model: WireModel, freqs: np.ndarray) -> tuple[float, float, 
     """(one core each, two cores each) speed-ups of ours over nec2++ and a report line."""
     runner = _runner()
     n_f = freqs.shape[0]
-    t_ours1, z1 = best_time(lambda: MomSolver(model).sweep_direct(freqs, workers=0))
+    t_double1, _ = best_time(lambda: MomSolver(model).sweep_direct(freqs, workers=0))
+    t_ours1, z1 = best_time(lambda: MomSolver(model, mixed_precision=True).sweep_direct(freqs, workers=0))
     t_nec1, zn = best_time(lambda: runner.nec2_zin_ohm(model, freqs))
-    t_ours2, _ = best_time(lambda: MomSolver(model).sweep_direct(freqs, workers=2))
+    t_ours2, _ = best_time(lambda: MomSolver(model, mixed_precision=True).sweep_direct(freqs, workers=2))
     ctx = multiprocessing.get_context("fork")
     with concurrent.futures.ProcessPoolExecutor(max_workers=2, mp_context=ctx) as pool:
         nec2_two_processes(pool, model, freqs[:2])  # start both processes before timing
@@ -134,7 +136,8 @@ def fair_comparison(model: WireModel, freqs: np.ndarray) -> tuple[float, float, 
     line = (f"# same geometry, {model.n_segments} segments: ours {MomSolver(model).n_unknowns} unknowns, nec2++ "
             f"{model.n_segments} unknowns; s per frequency one core each: ours {t_ours1 / n_f:.4f}, nec2++ "
             f"{t_nec1 / n_f:.4f} ({t_nec1 / t_ours1:.2f}x); two cores each: ours {t_ours2 / n_f:.4f}, nec2++ "
-            f"{t_nec2 / n_f:.4f} ({t_nec2 / t_ours2:.2f}x); max |Zin ours / Zin nec2++ - 1| = {dz:.3f}")
+            f"{t_nec2 / n_f:.4f} ({t_nec2 / t_ours2:.2f}x); ours with double-precision solves on one core "
+            f"{t_double1 / n_f:.4f} ({t_nec1 / t_double1:.2f}x); max |Zin ours / Zin nec2++ - 1| = {dz:.3f}")
     return t_nec1 / t_ours1, t_nec2 / t_ours2, line
 
 

@@ -77,7 +77,7 @@ def _mom_zin(freq_hz: np.ndarray, ifa: PrintedIfa, progress: Callable[[int, int]
     (:func:`footgen.physics.predict.zin_resampled`).
     ``mesh``: :class:`footgen.physics.wires.MeshControl` settings other than the defaults."""
     from footgen.physics.mom import MomSolver
-    from footgen.physics.predict import zin_resampled
+    from footgen.physics.predict import resampled_points, zin_resampled
     from footgen.physics.tline_ifa import quarter_wave_estimate_hz
     from footgen.physics.wires import MeshControl, ifa_wire_model
 
@@ -86,7 +86,9 @@ def _mom_zin(freq_hz: np.ndarray, ifa: PrintedIfa, progress: Callable[[int, int]
     if f.max() > MOM_MESH_STRETCH * mesh_hz:  # far above: mesh for the sweep itself
         mesh_hz = float(f.max())
     sizing_cache.sync_board_edge()  # board-edge 2-D solves of earlier runs: load once per process
-    solver = MomSolver(ifa_wire_model(ifa, mesh_hz, control=MeshControl(f_max_hz=mesh_hz, **(mesh or {}))))
+    # dense (prediction) sweeps solve in mixed precision; the synthesis' own solves stay in double
+    dense = resampled_points(f) is not None
+    solver = MomSolver(ifa_wire_model(ifa, mesh_hz, control=MeshControl(f_max_hz=mesh_hz, **(mesh or {}))), mixed_precision=dense)
     sizing_cache.sync_board_edge()  # keep any new ones for later runs
     if f.size < MOM_INTERPOLATE_FROM:
         return solver.sweep_direct(f, progress=progress)

@@ -68,17 +68,26 @@ def test_ill_conditioned_matrix_falls_back_to_double_precision() -> None:
 
 def test_solver_limits_blas_threads_whatever_the_caller_set(solvers, monkeypatch) -> None:
     seen = []
-    real_solve = mom.solve_refined
+    real_solve = MomSolver._solve
 
-    def spy(z, v):
+    def spy(self, z):
         seen.append([lib["num_threads"] for lib in threadpool_info() if lib["user_api"] == "blas"])
-        return real_solve(z, v)
+        return real_solve(self, z)
 
-    monkeypatch.setattr(mom, "solve_refined", spy)
+    monkeypatch.setattr(MomSolver, "_solve", spy)
     with threadpool_limits(limits=2, user_api="blas"):
         solvers["board"].sweep_direct(np.array([2.4e9]), workers=0)
         solvers["board"].currents(2.5e9)
-    assert seen and all(threads and all(t == mom.BLAS_THREADS for t in threads) for threads in seen)
+        solvers["board"].sweep_interpolated(np.linspace(2.3e9, 2.5e9, 5), workers=2)
+    assert len(seen) == 7 and all(threads and all(t == mom.BLAS_THREADS for t in threads) for threads in seen)
+
+
+def test_mixed_precision_sweep_agrees_with_the_double_one(solvers) -> None:
+    freqs = np.linspace(2.0e9, 2.9e9, 9)
+    double = solvers["board"].sweep_interpolated(freqs)
+    mixed = MomSolver(solvers["board"].model, mixed_precision=True).sweep_interpolated(freqs)
+    assert not np.array_equal(mixed, double)  # the other solve did run
+    assert np.max(np.abs(mixed / double - 1.0)) <= mom.MIXED_ZIN_RTOL
 
 
 def test_sweeps_give_the_same_zin_with_and_without_worker_threads(solvers) -> None:

@@ -74,8 +74,9 @@ SLAB_TABLE_POINTS = 2048
 SLAB_TABLE_REL_TOL = 1e-5
 INTERP_PHASE_STEP_RAD = 1.0  # anchor spacing: (k_{i+1} - k_i) * max basis distance
 # matrices assembled per batch of an interpolated sweep: with two batches solving and one being
-# filled, 4 keeps the peak at ~12 matrices (16 held ~48: 2.5x the memory, no faster, measured)
-SOLVE_CHUNK = 4
+# filled, 2 keeps ~6 matrices alive (16 held ~48 at no gain in speed: the solves run one matrix
+# at a time either way)
+SOLVE_CHUNK = 2
 SWEEP_SOLVE_WORKERS = 2  # solver threads in sweeps (the machine target has 2 cores); 0: inline
 # Mixed-precision solve: complex64 LU, then one refinement step with the residual in complex128
 # (Wilkinson's iterative refinement; Golub & Van Loan, "Matrix Computations", 4th ed. sec. 3.5.3,
@@ -412,10 +413,15 @@ class _PairIntegrals:
 
 
 class MomSolver:
-    """Thin-wire MPIE solver for one :class:`WireModel` (geometry work done once)."""
+    """Thin-wire MPIE solver for one :class:`WireModel` (geometry work done once).
 
-    def __init__(self, model: WireModel) -> None:
+    ``mixed_precision``: solve by :func:`solve_refined` with a complex64 LU (Zin within
+    MIXED_ZIN_RTOL); off, every solve is a complex128 LU (the synthesis keeps this, so that its
+    results do not depend on the faster solve)."""
+
+    def __init__(self, model: WireModel, *, mixed_precision: bool = False) -> None:
         self.model = model
+        self.mixed_precision = mixed_precision
         mesh = _segment_wires(model)
         self.mesh = mesh
         n_seg = mesh.lengths.shape[0]
@@ -710,8 +716,9 @@ class MomSolver:
             return self._solve(self.impedance_matrix(freq_hz))
 
     def _solve(self, z: np.ndarray) -> np.ndarray:
-        """Currents for the impedance matrix ``z`` and the source vector (see :func:`solve_refined`)."""
-        return solve_refined(z, self._v.astype(complex))
+        """Currents for the impedance matrix ``z`` (may be overwritten) and the source vector."""
+        v = self._v.astype(complex)
+        return solve_refined(z, v) if self.mixed_precision else np.linalg.solve(z, v)
 
     @property
     def basis_distance_m(self) -> np.ndarray:
@@ -778,8 +785,11 @@ class MomSolver:
         for f, k in zip(anchors, k_anchor):
             a_mat, phi_mat = self.potential_matrices(float(f))
             ph = np.exp(1j * k * dist)
-            stack_a.append(a_mat * ph)
-            stack_p.append(phi_mat * ph)
+            a_mat *= ph
+            phi_mat *= ph
+            stack_a.append(a_mat)
+            stack_p.append(phi_mat)
+            del a_mat, phi_mat, ph
         n_b = dist.shape[0]
         k_all = 2.0 * math.pi * freqs / C0_M_PER_S
         group = np.clip(np.searchsorted(k_anchor, k_all) - 1, 0, anchors.shape[0] - 3)
@@ -794,12 +804,25 @@ class MomSolver:
                     others = [kk[j] for j in range(3) if j != i]
                     scale = 1.0 / ((kk[i] - others[0]) * (kk[i] - others[1]))
                     power[i] = scale * np.array([others[0] * others[1], -(others[0] + others[1]), 1.0])
+                coeffs.clear()
                 a_pw = [sum(power[i, n] * stack_a[c + i] for i in range(3)) for n in range(3)]
                 p_pw = [sum(power[i, n] * stack_p[c + i] for i in range(3)) for n in range(3)]
                 fac = -1j * ETA0_OHM
-                coeffs.clear()
-                coeffs[c] = [fac * p_pw[0], fac * p_pw[1], fac * (p_pw[2] - a_pw[0]), -fac * a_pw[1], -fac * a_pw[2]]
+                # in place (five matrices, no temporaries): fac p0, fac p1, fac (p2 - a0), -fac a1, -fac a2
+                p_pw[0] *= fac
+                p_pw[1] *= fac
+                p_pw[2] -= a_pw[0]
+                p_pw[2] *= fac
+                a_pw[1] *= -fac
+                a_pw[2] *= -fac
+                coeffs[c] = [p_pw[0], p_pw[1], p_pw[2], a_pw[1], a_pw[2]]
+                del a_pw, p_pw
             return coeffs[c]
+
+        if np.unique(group).shape[0] == 1:  # one anchor group: its coefficients replace the anchors
+            laurent(int(group[0]))
+            stack_a.clear()
+            stack_p.clear()
 
         dk = np.diff(k_all)
         uniform = freqs.shape[0] > 2 and np.allclose(dk, dk[0], rtol=1e-9, atol=0.0)
@@ -811,7 +834,7 @@ class MomSolver:
         v = self._v.astype(complex)
 
         def solve_batch(z_batch: np.ndarray) -> np.ndarray:
-            return np.array([1.0 / (v @ solve_refined(z, v)) for z in z_batch])
+            return np.array([1.0 / (v @ self._solve(z)) for z in z_batch])
 
         # the main thread assembles chunk after chunk (phase recurrence is sequential) while worker
         # threads run the LAPACK solves (numpy releases the GIL there): both cores stay busy

@@ -72,10 +72,12 @@ def zin_ohm(ifa: PrintedIfa, freqs_hz: np.ndarray, progress: Callable[[int, int]
 
     The wire model is segmented for the highest frequency; sweeps of >= 4 points use
     impedance-matrix interpolation between anchor frequencies; dense sweeps are solved on
-    fewer points and interpolated (:func:`zin_resampled`).
+    fewer points and interpolated (:func:`zin_resampled`), with mixed-precision solves
+    (:func:`footgen.physics.mom.solve_refined`).
     """
     freqs = _check_freqs(freqs_hz)
-    solver = MomSolver(ifa_wire_model(ifa, float(freqs.max())))
+    dense = resampled_points(freqs) is not None
+    solver = MomSolver(ifa_wire_model(ifa, float(freqs.max())), mixed_precision=dense)
     return zin_resampled(lambda f: _sweep(solver, f, progress), freqs)
 
 
