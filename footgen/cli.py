@@ -93,28 +93,32 @@ def validate_cmd(spec: Path) -> None:
 
 
 @main.command("build")
-@click.argument("spec", type=click.Path(path_type=Path))
+@click.argument("specs", nargs=-1, required=True, type=click.Path(path_type=Path))
 @click.option("-o", "--out", "out_dir", required=True, type=click.Path(file_okay=False, path_type=Path), help="Output folder.")
 @click.option("--force", is_flag=True, help="Replace files even if they were edited by hand.")
 @click.option("--allow-violations", is_flag=True, help="Write the footprint even when the rule check finds errors.")
-def build_cmd(spec: Path, out_dir: Path, force: bool, allow_violations: bool) -> None:
-    """Size, lay out and check SPEC; write OUT/<library>.pretty/<name>.kicad_mod, the report,
-    the rule-check JSON and the copper drawing (SVG, PNG) beside it.
+def build_cmd(specs: tuple[Path, ...], out_dir: Path, force: bool, allow_violations: bool) -> None:
+    """Size, lay out and check each SPEC; write OUT/<library>.pretty/<name>.kicad_mod, the report,
+    the rule-check JSON and the copper drawing (SVG, PNG) beside it.  Several specs are built
+    in one run; bad input in any of them writes nothing.
 
-    Exits 1 (and writes no footprint) when the rule check finds errors.
+    Exits 1 (and writes no footprint for that spec) when the rule check finds errors.
 
     \b
     Example:
       footgen build examples/soil-probe-2g4.json -o build/
+      footgen build examples/*.json -o build/
     """
-    from footgen.build import build_spec_file
+    from footgen.build import build_spec_files
 
-    result, written = build_spec_file(spec, out_dir, force=force, allow_violations=allow_violations)
-    for path in written:
-        click.echo(f"wrote {path}")
-    for v in result.violations:
-        click.echo(v.line(), err=True)
-    if not result.ok:
+    failed = False
+    for result, written in build_spec_files(list(specs), out_dir, force=force, allow_violations=allow_violations):
+        for path in written:
+            click.echo(f"wrote {path}")
+        for v in result.violations:
+            click.echo(f"{result.spec.name}: {v.line()}" if len(specs) > 1 else v.line(), err=True)
+        failed = failed or not result.ok
+    if failed:
         sys.exit(EXIT_RULES)
 
 
