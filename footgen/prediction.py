@@ -13,7 +13,7 @@ from __future__ import annotations
 import json
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Callable
+from typing import TYPE_CHECKING, Callable
 
 import numpy as np
 
@@ -24,12 +24,17 @@ from footgen.geometry.layout import Sizing, generate_copper
 from footgen.model import printed_ifa
 from footgen.physics.ifa import PrintedIfa
 from footgen.physics.predict import bandwidth_10db, s11_from_zin
-from footgen.sizing import DEFAULT_MODEL, MODELS, PREDICTION_HALF_SPAN
+from footgen.sizing import DEFAULT_MODEL, MODELS, PREDICTION_HALF_SPAN, SEARCH_MESH
 from footgen.spec import Spec
+
+if TYPE_CHECKING:
+    from footgen.radiation import RadiationSummary
 
 #: Number of sweep points over the band centre +- PREDICTION_HALF_SPAN.
 SWEEP_POINTS = 201
 Z0_OHM = 50.0
+#: response models with currents (far field available) -> their wire-mesh settings
+RADIATION_MODELS: dict[str, dict[str, float] | None] = {"mom": None, "mom-search": SEARCH_MESH}
 #: Retune's resonance searches sweep the band centre (or where the resonance is expected) +-
 #: RESONANCE_SPAN in RESONANCE_POINTS points: the same model, a tenth of the cost of the
 #: prediction sweep; on the bundled examples their resonance and Zin there agree with the
@@ -45,8 +50,10 @@ RESONANCE_REFINE_POINTS = 2001
 
 
 def sized(spec: Spec, model: str = DEFAULT_MODEL) -> Sizing:
-    """``sizing.size(spec, model)``, from the on-disk cache when this copper was sized before."""
-    return cache.sized(spec, model)
+    """``sizing.size(spec, model)`` (kept in the sizing cache once solved)."""
+    from footgen import sizing
+
+    return sizing.size(spec, model=model)
 
 
 def copper_ifa(spec: Spec, numbers: Sizing) -> PrintedIfa:
@@ -131,6 +138,8 @@ class Prediction:
     bare_freq_hz: np.ndarray
     bare_zin_ohm: np.ndarray
     calibration: Calibration | None = None
+    #: efficiency and gain at the band centre (MoM models only; None for the others)
+    radiation: "RadiationSummary | None" = None
 
     @property
     def freq_hz(self) -> np.ndarray:
@@ -182,6 +191,28 @@ class Prediction:
             return "uncalibrated: the bare model (the calibration this revision holds is not applied)"
         return "uncalibrated: this revision holds no calibration (retune from a measurement records one)"
 
+    def summary_dict(self) -> dict:
+        """The summary figures, machine-readable (units in the keys; None where not defined)."""
+        f0 = self.spec.target.center_hz
+        z0 = self.zin_at(f0)
+        band = self.band_10db_hz
+        return {
+            "name": self.spec.name,
+            "model": self.model_label,
+            "calibration": None if self.calibration is None else self.calibration.to_json(),
+            "center_mhz": round(f0 / 1e6, 6),
+            "resonance_mhz": round(self.f_res_hz / 1e6, 4),
+            "min_s11_db": round(self.min_s11_db, 3),
+            "s11_at_center_db": round(float(20 * np.log10(max(abs((z0 - Z0_OHM) / (z0 + Z0_OHM)), 1e-12))), 3),
+            "zin_at_center_ohm": [round(z0.real, 3), round(z0.imag, 3)],
+            "band_10db_mhz": None if band is None else [round(band[0] / 1e6, 3), round(band[1] / 1e6, 3)],
+            "radiation": None if self.radiation is None else self.radiation.as_dict(),
+        }
+
+    def json_bytes(self) -> bytes:
+        """:meth:`summary_dict` as JSON bytes (sorted keys; same prediction, same bytes)."""
+        return (json.dumps(self.summary_dict(), indent=2, sort_keys=True) + "\n").encode("utf-8")
+
     def summary_lines(self) -> list[str]:
         f0 = self.spec.target.center_hz
         z0 = self.zin_at(f0)
@@ -204,6 +235,8 @@ class Prediction:
                 f"-10 dB band: {lo / 1e6:.1f} to {hi / 1e6:.1f} MHz ({100 * (hi - lo) / res.freq_hz:.1f} %), "
                 f"{'covers' if covers else 'does not cover'} the target band"
             )
+        if self.radiation is not None:
+            lines += self.radiation.lines()
         lines.append(SAFETY_NOTE)
         return lines
 
@@ -214,38 +247,35 @@ def _percent(rel: float) -> str:
 
 
 def predict_spec(spec: Spec, *, model: str = DEFAULT_MODEL, calibrate: bool = True,
-                 progress: Callable[[int, int], None] | None = None, numbers: Sizing | None = None) -> Prediction:
+                 progress: Callable[[int, int], None] | None = None, numbers: Sizing | None = None,
+                 radiation: bool = False) -> Prediction:
     """Size ``spec`` as the build does (``numbers`` if already known), sweep the model around the
-    band and apply the revision's calibration unless ``calibrate`` is False."""
+    band and apply the revision's calibration unless ``calibrate`` is False; with ``radiation``,
+    also the efficiency and gain at the band centre (MoM models)."""
     numbers = sized(spec, model) if numbers is None else numbers
     freqs = sweep_hz(spec)
-    zin = model_zin_ohm(copper_ifa(spec, numbers), freqs, model, progress=progress)
-    return Prediction(spec, MODELS[model].label, freqs, zin, of_spec(spec.raw) if calibrate else None)
+    ifa = copper_ifa(spec, numbers)
+    zin = model_zin_ohm(ifa, freqs, model, progress=progress)
+    summary = None
+    if radiation and model in RADIATION_MODELS:
+        from footgen.radiation import mom_summary
+
+        summary = mom_summary(ifa, spec.target.center_hz, float(freqs.max()), mesh=RADIATION_MODELS[model])
+    return Prediction(spec, MODELS[model].label, freqs, zin, of_spec(spec.raw) if calibrate else None, summary)
 
 
 def plot_s11(prediction: Prediction, measured: tuple[np.ndarray, np.ndarray] | None = None) -> tuple[bytes, bytes]:
-    """SVG and PNG of |S11| in dB over the sweep, the target band shaded (deterministic bytes)."""
-    from matplotlib.figure import Figure
-
-    from footgen.draw import figure_bytes
+    """SVG and PNG of |S11| in dB over the sweep and zoomed on the target band, with the
+    resonance, the -10 dB band edges and the worst in-band |S11| marked (deterministic bytes)."""
+    from footgen.plots import figure_bytes, s11_figure
 
     spec = prediction.spec
-    fig = Figure(figsize=(7.0, 4.0))
-    ax = fig.add_subplot(1, 1, 1)
-    ax.axvspan(spec.target.low_hz / 1e6, spec.target.high_hz / 1e6, color="#c6f6d5", alpha=0.6, label="target band")
-    ax.plot(prediction.freq_hz / 1e6, prediction.s11_db, color="#2b6cb0",
-            label="predicted, calibrated" if prediction.calibration else "predicted")
+    label = "predicted, calibrated" if prediction.calibration else "predicted"
+    curves = [(prediction.freq_hz, prediction.s11, {"color": "#2b6cb0", "lw": 1.2, "label": label})]
     if measured is not None:
-        f, s11 = measured
-        ax.plot(f / 1e6, 20 * np.log10(np.maximum(np.abs(s11), 1e-12)), color="#c05621", label="measured")
-    ax.axhline(-10.0, color="gray", lw=0.8, ls="--")
-    ax.set_xlabel("frequency (MHz)")
-    ax.set_ylabel("|S11| (dB)")
-    ax.set_title(f"{spec.name}: predicted S11 ({prediction.model_label.split(' (')[0]})", fontsize=9)
-    ax.legend(fontsize=8)
-    ax.grid(True, lw=0.3)
-    fig.tight_layout()
-    return figure_bytes(fig)
+        curves.append((measured[0], measured[1], {"color": "#c05621", "lw": 1.2, "label": "measured"}))
+    title = f"{spec.name}: predicted S11 ({prediction.model_label.split(' (')[0]})"
+    return figure_bytes(s11_figure(title, (spec.target.low_hz, spec.target.high_hz), curves))
 
 
 def touchstone_text(prediction: Prediction) -> bytes:

@@ -20,7 +20,6 @@ from shapely.geometry import Polygon, box
 from shapely.geometry.base import BaseGeometry
 
 from footgen import sizing
-from footgen.cache import sized as cached_sizing
 from footgen.errors import FootgenError, SpecError
 from footgen.geometry.layout import Layout, build_layout
 from footgen.spec import Spec, load_spec
@@ -144,7 +143,7 @@ def _extent_rows(old: BaseGeometry, new: BaseGeometry) -> list[Row]:
 
 def diff_specs(old: Spec, new: Spec, model: str = sizing.DEFAULT_MODEL) -> RevisionDiff:
     """Size and lay out both specs with ``model`` and compare."""
-    layouts = [build_layout(s, cached_sizing(s, model)) for s in (old, new)]
+    layouts = [build_layout(s, sizing.size(s, model=model)) for s in (old, new)]
     return diff_layouts(*layouts, _spec_label(old), _spec_label(new), spec_changes(old.raw, new.raw))
 
 
@@ -333,7 +332,7 @@ def overlay_svg_png(diff: RevisionDiff) -> tuple[bytes, bytes]:
     """Overlay of both coppers (old outlined grey, new filled copper), feed point at the origin."""
     from matplotlib.figure import Figure
 
-    from footgen.draw import figure_bytes, patches
+    from footgen.plots import figure_bytes, patches
 
     fig = Figure(figsize=(8.0, 4.5))
     ax = fig.add_subplot(1, 1, 1)

@@ -69,7 +69,7 @@ def test_report_content(tmp_path):
 
 def test_report_writes_atomically(tmp_path, monkeypatch):
     """A failure half-way leaves every earlier file whole (old content), and no temp files."""
-    monkeypatch.setenv("FOOTGEN_CACHE_DIR", "off")  # only the report's own file replacements are counted
+    monkeypatch.setenv("FOOTGEN_CACHE_DIR", "")  # only the report's own file replacements are counted
     out = tmp_path / "r"
     loop_report.write_report(spec(1), out, model=MODEL)
     before = {p.name: p.read_bytes() for p in out.iterdir()}
