@@ -46,7 +46,7 @@ def kicad_available() -> bool:
     if shutil.which("kicad-cli") is None:
         return False
     try:
-        from footgen.kicad.testrun import kicad_python
+        from footgen.testrun import kicad_python
 
         kicad_python.cache_clear()
         kicad_python()

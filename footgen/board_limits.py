@@ -1,0 +1,30 @@
+"""The limits a footprint is laid out and checked against.
+
+A fab profile says what the fab can make; a board whose design rules were never changed checks
+its own defaults (``_board_defaults`` in ``data/fab_profiles.json``).  A footprint that is to drop
+into such a board meets the larger of the two for every distance the board's rule check measures
+between the footprint's own items.
+"""
+
+from __future__ import annotations
+
+import json
+from dataclasses import fields, replace
+from functools import lru_cache
+from importlib import resources
+
+from footgen.spec import FabLimits
+
+
+@lru_cache(maxsize=1)
+def board_defaults() -> dict[str, float]:
+    """The default design rules of a new board, by fab-limit field name (mm)."""
+    data = json.loads(resources.files("footgen.data").joinpath("fab_profiles.json").read_text("utf-8"))
+    return {k: float(v) for k, v in data["_board_defaults"].items() if k.startswith("min_")}
+
+
+def design_limits(fab: FabLimits) -> FabLimits:
+    """``fab`` with every limit raised to the board default where that is stricter."""
+    floor = board_defaults()
+    names = [f.name for f in fields(FabLimits) if f.name in floor]
+    return replace(fab, **{name: max(getattr(fab, name), floor[name]) for name in names})
