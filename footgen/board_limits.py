@@ -23,8 +23,14 @@ def board_defaults() -> dict[str, float]:
     return {k: float(v) for k, v in data["_board_defaults"].items() if k.startswith("min_")}
 
 
+#: Board defaults that bind only the board's own items (a track width limits tracks, not the
+#: footprint's pad copper), so they do not raise the footprint's limits.
+BOARD_ITEMS_ONLY = frozenset({"min_trace_mm"})
+
+
 def design_limits(fab: FabLimits) -> FabLimits:
-    """``fab`` with every limit raised to the board default where that is stricter."""
+    """``fab`` with every limit on the footprint's own items raised to the board default where
+    that is stricter."""
     floor = board_defaults()
-    names = [f.name for f in fields(FabLimits) if f.name in floor]
+    names = [f.name for f in fields(FabLimits) if f.name in floor and f.name not in BOARD_ITEMS_ONLY]
     return replace(fab, **{name: max(getattr(fab, name), floor[name]) for name in names})

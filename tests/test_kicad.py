@@ -22,7 +22,8 @@ from footgen.board_limits import board_defaults
 from footgen.build import run, write_build
 from footgen.rules import check
 from footgen.spec import load_spec, parse_spec
-from footgen.testboard import BOARD_ORIGIN_MM, test_board_plan
+from footgen import testboard
+from footgen.testboard import BOARD_ORIGIN_MM
 from footgen.testrun import KiCad, filled_zones, make_board, make_test_board, run_drc, upgrade_footprint
 
 from conftest import EXAMPLES, ROOT, TEMPLATES, load_json, write_spec
@@ -49,6 +50,31 @@ def kicad_version(request: pytest.FixtureRequest) -> KiCad:
     if os.environ.get("CI", "").lower() == "true":
         pytest.fail(f"{why}; scripts/test.sh installs it")
     pytest.skip(f"{why}: run scripts/test.sh to install it")
+
+
+#: KiCad's Board Setup names for our fab-limit fields; the Default netclass holds the clearance.
+BOARD_SETUP_NAMES = {
+    "min_drill_mm": "min_through_hole_diameter",
+    "min_annular_ring_mm": "min_via_annular_width",
+    "min_hole_to_hole_mm": "min_hole_to_hole",
+    "min_copper_to_edge_mm": "min_copper_edge_clearance",
+    "min_hole_clearance_mm": "min_hole_clearance",
+}
+#: KiCad's default minimum track width by version (0.2 mm in 10, none in 9; board tracks only).
+DEFAULT_MIN_TRACK_WIDTH_MM = {9: 0.0, 10: 0.2}
+
+
+def assert_default_rules(board_path: Path, kicad: KiCad) -> None:
+    """The board's project (as KiCad saved it) holds KiCad's default rules, which are the
+    ``_board_defaults`` our footprints are laid out against."""
+    project = json.loads(board_path.with_suffix(".kicad_pro").read_text("utf-8"))
+    rules = project["board"]["design_settings"]["rules"]
+    defaults = board_defaults()
+    for ours, theirs in BOARD_SETUP_NAMES.items():
+        assert rules[theirs] == pytest.approx(defaults[ours]), theirs
+    assert rules["min_track_width"] == pytest.approx(DEFAULT_MIN_TRACK_WIDTH_MM[kicad.major()])
+    default_class = next(c for c in project["net_settings"]["classes"] if c["name"] == "Default")
+    assert default_class["clearance"] == pytest.approx(defaults["min_clearance_mm"])
 
 
 def file_format(text: str) -> int:
@@ -83,8 +109,7 @@ def test_default_rules_board_drc_clean(kicad_version: KiCad, spec_path: Path, la
     """The product's promise: drop the footprint at the edge of a board whose Board Setup is
     KiCad's default, fill, and KiCad's DRC reports 0 errors."""
     report = make_test_board(spec_path, tmp_path, copper_layers=layers, kicad=kicad_version)
-    project = json.loads(report.board_path.with_suffix(".kicad_pro").read_text("utf-8"))
-    assert "rules" not in project["board"]["design_settings"] and "net_settings" not in project  # KiCad's defaults
+    assert_default_rules(report.board_path, kicad_version)
     assert report.drc_errors == []
     result = run(load_spec(spec_path))
     ox, oy = BOARD_ORIGIN_MM
@@ -123,7 +148,7 @@ def _fault_board(tmp_path: Path, kicad: KiCad, change: dict, fab_change: dict, c
         return ours, report.types("error")
     write_build(result, out, allow_violations=True)
     footprint = out / result.footprint_relpath
-    plan = test_board_plan(checked_spec, result.layout, library=result.spec.library, footprint_file=str(footprint), fab_rules=True)
+    plan = testboard.test_board_plan(checked_spec, result.layout, library=result.spec.library, footprint_file=str(footprint), fab_rules=True)
     board = out / "fault.kicad_pcb"
     make_board(plan, board, kicad)
     drc = run_drc(board, kicad)
@@ -175,8 +200,7 @@ def test_bundled_example_board_is_drc_clean(kicad_version: KiCad, tmp_path: Path
     shutil.copytree(board_dir, copy_dir)
     board = next(copy_dir.glob("*.kicad_pcb"))
     assert file_format(board.read_text("utf-8")) < FILE_FORMAT_AT_LEAST[10]  # KiCad 9 cannot read 10's format
-    project = json.loads(board.with_suffix(".kicad_pro").read_text("utf-8"))
-    assert "rules" not in project["board"]["design_settings"]
+    assert_default_rules(board, kicad_version)
     drc = run_drc(board, kicad_version)
     errors = [v for v in drc["violations"] + drc["unconnected_items"] if v["severity"] == "error"]
     assert errors == []
