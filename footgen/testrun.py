@@ -194,8 +194,6 @@ def _kicad_run(kicad: KiCad, argv: list[str], paths: list[Path], what: str) -> s
 def upgrade_footprint(pretty_dir: Path, out_dir: Path, kicad: KiCad | None = None) -> None:
     """Have KiCad load and re-save a footprint library (``kicad-cli fp upgrade``)."""
     kicad = kicad or KiCad.from_env()
-    if kicad.major() >= 10:
-        Path(out_dir).mkdir(parents=True, exist_ok=True)  # KiCad 10 no longer creates it; 9 refuses an existing one
     _kicad_run(kicad, [kicad.cli(), "fp", "upgrade", str(pretty_dir), "-o", str(out_dir)], [pretty_dir, out_dir], f"kicad-cli fp upgrade {pretty_dir}")
 
 
