@@ -40,7 +40,7 @@ FOOTGEN_KICAD10_ROOT=${FOOTGEN_KICAD10_ROOT:-/opt/footgen-kicad10} bash scripts/
 export FOOTGEN_KICAD10_ROOT=${FOOTGEN_KICAD10_ROOT:-/opt/footgen-kicad10}
 
 # pcbnew and openEMS exist only for Debian's /usr/bin/python3, so the test venv is made from it.
-venv=${FOOTGEN_VENV:-$here/.venv}
+venv=${FOOTGEN_VENV:-$here/.venv-test}
 if [ ! -x "$venv/bin/python" ]; then
   echo "== creating $venv"
   /usr/bin/python3 -m venv --system-site-packages "$venv"
