@@ -100,8 +100,15 @@ class KiCad:
         reads or writes (seen at the same paths inside a separate root)."""
         if self.root is None:
             return argv
-        binds = sorted({str(Path(p).resolve()) for p in paths})
+        binds = sorted({str(_existing(Path(p).resolve())) for p in paths})
         return ["unshare", "-m", "sh", "-c", _CHROOT_SCRIPT, "sh", str(self.root), *binds, "--", *argv]
+
+
+def _existing(path: Path) -> Path:
+    """``path`` or its nearest existing parent (a folder KiCad is to create is bound by its parent)."""
+    while not path.exists() and path != path.parent:
+        path = path.parent
+    return path
 
 
 @lru_cache(maxsize=None)
