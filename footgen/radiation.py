@@ -151,7 +151,7 @@ def _stable_svg_ids(svg: bytes) -> bytes:
 
 
 def _figure_bytes(fig) -> tuple[bytes, bytes]:
-    from footgen.draw import figure_bytes
+    from footgen.plots import figure_bytes
 
     svg, png = figure_bytes(fig)
     return _stable_svg_ids(svg), png

@@ -171,7 +171,7 @@ def test_png_is_rasterised_only_when_asked(monkeypatch: pytest.MonkeyPatch) -> N
     data["output"] = {"drawing_png": False}
     spec = parse_spec(data)
     layout = build_layout(spec, Sizing(18.0, 5.3, 1.9, "explicit"))
-    result = BuildResult(spec, Sizing(18.0, 5.3, 1.9, "explicit"), layout, (), "")
+    result = BuildResult(spec, Sizing(18.0, 5.3, 1.9, "explicit"), layout, ())
 
     def refuse(self):
         raise AssertionError("PNG rendered although drawing_png is false")
