@@ -12,13 +12,14 @@ from pathlib import Path
 from typing import TYPE_CHECKING
 
 from footgen import __version__
+from footgen.board_limits import design_limits
 from footgen.geometry.layout import Layout, Sizing, build_layout
 from footgen.errors import FootgenError, SpecError
 from footgen.geometry.matching_pads import assembly_lines
 from footgen.outputs import write_outputs
 from footgen.rules import Violation, check, report_dict
 from footgen.sizing import size
-from footgen.spec import Spec, load_spec
+from footgen.spec import FabLimits, Spec, load_spec
 
 if TYPE_CHECKING:
     from footgen.kicad.writer import FootprintMeta
@@ -93,6 +94,22 @@ def calibration_text(spec: Spec) -> str:
     return f"Predictions of this revision are {cal.line()}."
 
 
+#: Board Setup limits (KiCad's names) the footprint's own distances are laid out against.
+BOARD_SETUP_LIMITS = (
+    ("Clearance (Default netclass)", "min_clearance_mm"),
+    ("Copper to hole clearance", "min_hole_clearance_mm"),
+    ("Copper to edge clearance", "min_copper_to_edge_mm"),
+    ("Hole to hole clearance", "min_hole_to_hole_mm"),
+    ("Minimum through hole", "min_drill_mm"),
+    ("Minimum annular width", "min_annular_ring_mm"),
+)
+
+
+def board_setup_rows(fab: FabLimits) -> list[tuple[str, float]]:
+    limits = design_limits(fab)
+    return [(label, getattr(limits, name)) for label, name in BOARD_SETUP_LIMITS]
+
+
 def report_markdown(result: BuildResult) -> str:
     spec, sizing, d = result.spec, result.sizing, result.layout.dims
     lines = [
@@ -126,6 +143,15 @@ def report_markdown(result: BuildResult) -> str:
         lines += [f"- {v.line()}" for v in result.violations]
     else:
         lines.append("No violations.")
+    lines += ["", "## Board Setup this footprint passes", ""]
+    lines += [
+        "KiCad's DRC passes this footprint on a board whose Board Setup limits are at most these (a new "
+        "board's defaults are; they are the fab profile's limits or the default board's, the larger):",
+        "",
+        "| Board Setup limit | at most |",
+        "| --- | --- |",
+    ]
+    lines += [f"| {label} | {value:g} mm |" for label, value in board_setup_rows(result.spec.fab)]
     lines += ["", "## Caution", "", SAFETY_NOTE, ""]
     return "\n".join(lines)
 

@@ -267,17 +267,24 @@ def pattern_cmd(spec: Path, out: Path, freq_mhz: float | None, force: bool) -> N
 @click.option("--drc/--no-drc", default=True, help="Run KiCad's DRC on the board afterwards.")
 @click.option("--allow-violations", is_flag=True, help="Place the footprint even when the rule check finds errors.")
 @click.option("--board-name", default=None, help="File name of the board, without .kicad_pcb (default: <name>-test).")
-def testboard_cmd(spec: Path, out_dir: Path, drc: bool, allow_violations: bool, board_name: str | None) -> None:
-    """Build SPEC's footprint into a small KiCad 9 test board (outline, GND pours on F.Cu and
-    B.Cu, feed track), fill the zones and run KiCad's DRC.  Needs KiCad 9.
+@click.option("--fab-rules", is_flag=True, help="Give the board the fab profile's design rules instead of KiCad's defaults.")
+@click.option("--layers", "copper_layers", type=click.Choice(["2", "4"]), default="2", show_default=True, help="Copper layers of the board.")
+def testboard_cmd(
+    spec: Path, out_dir: Path, drc: bool, allow_violations: bool, board_name: str | None, fab_rules: bool, copper_layers: str
+) -> None:
+    """Build SPEC's footprint into a small KiCad test board (outline, GND pours on every copper
+    layer, feed track) with KiCad's default design rules, fill the zones and run KiCad's DRC.
+    Needs KiCad 9 or 10.
 
     \b
     Example:
       footgen testboard examples/soil-probe-2g4.json -o board/
     """
-    from footgen.kicad.testrun import make_test_board
+    from footgen.testrun import make_test_board
 
-    report = make_test_board(spec, out_dir, drc=drc, allow_violations=allow_violations, board_name=board_name)
+    report = make_test_board(
+        spec, out_dir, drc=drc, allow_violations=allow_violations, board_name=board_name, fab_rules=fab_rules, copper_layers=int(copper_layers)
+    )
     click.echo(f"wrote {report.board_path}")
     if report.drc is not None:
         for item in report.drc_errors:

@@ -67,8 +67,9 @@ def rotation_of(layout: Layout) -> int:
 
 
 def violation_point(v) -> Point:
-    """A rule violation's location in the layout's own frame (mm, y up)."""
-    return (v.x_mm, v.y_mm)
+    """A rule violation's location in the layout's own frame (mm, y up); violations carry
+    KiCad's footprint frame (y down)."""
+    return (v.x_mm, -v.y_mm + 0.0)
 
 
 # --------------------------------------------------------------------------------- dimensions

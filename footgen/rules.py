@@ -1,15 +1,19 @@
 """Fab rule checks on the layout (not on the KiCad file).
 
 Each rule is a function ``(layout, fab) -> list[Violation]`` in :data:`RULES`.  Every violation
-names the rule, the measured and the allowed value in mm, and a location in footprint mm
-(y up, origin at the feed point).
+names the rule, the measured and the allowed value in mm, a location in KiCad's footprint frame
+(mm, y down, origin at the feed point), and the spec field to change with a value that passes.
+
+Rules on distances a board's own rule check measures between the footprint's items (pad to pad,
+copper to hole, hole to hole, drill, annular ring, copper to edge) use :func:`design_limits`: the
+fab's limit or a default board's, whichever is stricter.  The others use the fab's limits.
 """
 
 from __future__ import annotations
 
 import itertools
 import math
-from dataclasses import asdict, dataclass
+from dataclasses import asdict, dataclass, replace
 from typing import Callable
 
 import shapely
@@ -17,6 +21,7 @@ from shapely.geometry import Polygon
 from shapely.geometry.base import BaseGeometry
 from shapely.ops import nearest_points
 
+from footgen.board_limits import design_limits
 from footgen.geometry.ifa import Trace
 from footgen.geometry.layout import Layout
 from footgen.spec import FabLimits
@@ -33,21 +38,34 @@ class Violation:
     measured_mm: float
     allowed_mm: float
     x_mm: float
-    y_mm: float
+    y_mm: float  # KiCad's footprint frame: y down
     message: str
     severity: str = "error"
+    #: The spec field (JSON path) to change, and a value for it that passes this rule.
+    field: str = ""
+    fix_value: float = 0.0
 
     def line(self) -> str:
         return (
             f"{self.severity}: {self.rule}: {self.message}: measured {self.measured_mm:.4f} mm, "
-            f"allowed >= {self.allowed_mm:.4f} mm at ({self.x_mm:.3f}, {self.y_mm:.3f}) mm"
+            f"allowed >= {self.allowed_mm:.4f} mm at ({self.x_mm:.3f}, {self.y_mm:.3f}) mm; "
+            f"fix: set {self.field} to {_fmt(self.fix_value)}"
         )
 
     def as_dict(self) -> dict:
         data = asdict(self)
-        for key in ("measured_mm", "allowed_mm", "x_mm", "y_mm"):
+        for key in ("measured_mm", "allowed_mm", "x_mm", "y_mm", "fix_value"):
             data[key] = round(data[key], 6)
         return data
+
+
+def _fmt(value: float) -> str:
+    return f"{value:.3f}".rstrip("0").rstrip(".")
+
+
+def _up(value: float) -> float:
+    """Round a passing value up to the next micrometre, so it still passes when printed."""
+    return math.ceil(round(value * 1000.0, 6)) / 1000.0
 
 
 def _where(a: BaseGeometry, b: BaseGeometry) -> tuple[float, float]:
@@ -125,18 +143,21 @@ def rule_ground_edge_distance(layout: Layout, fab: FabLimits) -> list[Violation]
 def rule_pad_clearance(layout: Layout, fab: FabLimits) -> list[Violation]:
     """Feed pad and feed leg to the ground pad and the shunt vias."""
     rf = shapely.union_all([layout.pad("1").polygon_anchor, layout.copper.trace("feed_leg").polygon()])
+    allowed = design_limits(fab).min_clearance_mm
     out = []
     for pad in layout.pads:
         if pad.number == "2":
-            out += _too_close("pad_clearance", rf, pad.polygon, fab.min_clearance_mm, f"feed copper too close to ground {pad.kind} pad")
+            out += _too_close("pad_clearance", rf, pad.polygon, allowed, f"feed copper too close to ground {pad.kind} pad")
     return out
 
 
 def rule_copper_to_edge(layout: Layout, fab: FabLimits) -> list[Violation]:
-    return _too_close("copper_to_edge", layout.antenna, layout.board_edge, fab.min_copper_to_edge_mm, "antenna copper too close to the board edge")
+    allowed = design_limits(fab).min_copper_to_edge_mm
+    return _too_close("copper_to_edge", layout.antenna, layout.board_edge, allowed, "antenna copper too close to the board edge")
 
 
 def rule_via_drill(layout: Layout, fab: FabLimits) -> list[Violation]:
+    fab = design_limits(fab)
     out = []
     for via in layout.vias:
         if via.drill_mm is not None and via.drill_mm + RULE_TOLERANCE_MM < fab.min_drill_mm:
@@ -145,6 +166,7 @@ def rule_via_drill(layout: Layout, fab: FabLimits) -> list[Violation]:
 
 
 def rule_annular_ring(layout: Layout, fab: FabLimits) -> list[Violation]:
+    fab = design_limits(fab)
     out = []
     for via in layout.vias:
         ring = (via.size[0] - (via.drill_mm or 0.0)) / 2
@@ -154,6 +176,7 @@ def rule_annular_ring(layout: Layout, fab: FabLimits) -> list[Violation]:
 
 
 def rule_hole_to_hole(layout: Layout, fab: FabLimits) -> list[Violation]:
+    fab = design_limits(fab)
     out = []
     for a, b in itertools.combinations(layout.vias, 2):
         wall = math.dist(a.center, b.center) - ((a.drill_mm or 0) + (b.drill_mm or 0)) / 2
@@ -166,10 +189,11 @@ def rule_hole_to_hole(layout: Layout, fab: FabLimits) -> list[Violation]:
 def rule_hole_clearance(layout: Layout, fab: FabLimits) -> list[Violation]:
     """Feed-side copper (pad 1, which includes the short leg) to every via hole; KiCad checks
     this even between the pads of a net tie."""
+    allowed = design_limits(fab).min_hole_clearance_mm
     out = []
     for via in layout.vias:
         hole = shapely.geometry.Point(via.center).buffer((via.drill_mm or 0.0) / 2, quad_segs=32)
-        out += _too_close("hole_clearance", layout.antenna, hole, fab.min_clearance_mm, "antenna copper too close to a via hole")
+        out += _too_close("hole_clearance", layout.antenna, hole, allowed, "antenna copper too close to a via hole")
     return out
 
 
@@ -218,11 +242,49 @@ RULES: dict[str, Callable[[Layout, FabLimits], list[Violation]]] = {
 }
 
 
+# --- the spec field to change for each rule, and a value that passes ----------------------------
+
+
+def _deficit(v: Violation) -> float:
+    return v.allowed_mm - v.measured_mm
+
+
+def _fix_turn_gap(v: Violation, layout: Layout, fab: FabLimits) -> tuple[str, float]:
+    d = layout.dims
+    if d.get("meander_turns", 0.0) > 0:
+        return "$.style.meander_pitch_mm", _up(d["meander_pitch_mm"] + _deficit(v))
+    return "$.arm.feed_short_spacing_mm", _up(d["feed_short_spacing_mm"] + _deficit(v))
+
+
+def _fix_hole_clearance(v: Violation, layout: Layout, fab: FabLimits) -> tuple[str, float]:
+    smaller = math.floor(round((layout.dims["via_drill_mm"] - 2 * _deficit(v)) * 1000.0, 6)) / 1000.0
+    if smaller >= design_limits(fab).min_drill_mm:
+        return "$.short.via_drill_mm", smaller
+    return "$.short.via_count", 0.0
+
+
+FIXES: dict[str, Callable[[Violation, Layout, FabLimits], tuple[str, float]]] = {
+    "trace_width": lambda v, layout, fab: ("$.trace_width_mm", _up(v.allowed_mm)),
+    "copper_clearance": _fix_turn_gap,
+    "ground_edge_distance": lambda v, layout, fab: ("$.feed.port_gap_mm", _up(layout.dims["port_gap_mm"] + _deficit(v))),
+    "pad_clearance": lambda v, layout, fab: ("$.arm.feed_short_spacing_mm", _up(layout.dims["feed_short_spacing_mm"] + _deficit(v))),
+    "copper_to_edge": lambda v, layout, fab: ("$.clearance.edge_distance_mm", _up(layout.dims["edge_distance_mm"] + _deficit(v))),
+    "via_drill": lambda v, layout, fab: ("$.short.via_drill_mm", _up(v.allowed_mm)),
+    "annular_ring": lambda v, layout, fab: ("$.short.via_annular_ring_mm", _up(v.allowed_mm)),
+    "hole_to_hole": lambda v, layout, fab: ("$.short.via_count", 1.0),
+    "hole_clearance": _fix_hole_clearance,
+    "keepout_margin": lambda v, layout, fab: ("$.clearance.short_inset_mm", _up(layout.dims["short_inset_mm"] + _deficit(v))),
+}
+
+
 def check(layout: Layout, fab: FabLimits) -> list[Violation]:
-    """All violations of all rules, in a stable order."""
+    """All violations of all rules, in a stable order, located in KiCad's footprint frame (y
+    down) and each with the spec field to change and a value that passes."""
     found: list[Violation] = []
-    for rule in RULES.values():
-        found += rule(layout, fab)
+    for name, rule in RULES.items():
+        for v in rule(layout, fab):
+            field, value = FIXES[name](v, layout, fab)
+            found.append(replace(v, y_mm=-v.y_mm + 0.0, field=field, fix_value=value))
     return found
 
 
@@ -230,5 +292,6 @@ def report_dict(violations: list[Violation], fab: FabLimits) -> dict:
     return {
         "ok": not any(v.severity == "error" for v in violations),
         "fab": asdict(fab),
+        "design_limits": asdict(design_limits(fab)),
         "violations": [v.as_dict() for v in violations],
     }

@@ -17,6 +17,7 @@ from typing import Callable
 import numpy as np
 
 from footgen import sizing_cache
+from footgen.board_limits import design_limits
 from footgen.errors import InfeasibleSpecError, SolverError
 from footgen.geometry.layout import Sizing, generate_copper, max_arm_height_mm, min_meander_pitch_mm
 from footgen.model import printed_ifa
@@ -187,11 +188,17 @@ def quarter_wave_first_estimate_mm(spec: Spec, height_mm: float) -> float:
 
 
 def min_spacing_mm(spec: Spec) -> float:
-    """Smallest feed-to-short spacing that keeps the fab clearance between the two legs, the
-    feed pad and the ground pad, and the feed copper and the via holes."""
+    """Smallest feed-to-short spacing that keeps the fab clearance between the two legs, and
+    between the feed pad and the ground pad and the feed copper and the via holes the clearance
+    a board's rule check measures there (the fab's or a default board's, the larger)."""
     c = spec.fab.min_clearance_mm
+    board = design_limits(spec.fab)
     w, ws = spec.trace_width_mm, spec.short.stub_width_mm
-    return max((w + ws) / 2, (spec.feed.pad_width_mm + spec.short.pad_span_mm) / 2, spec.feed.pad_width_mm / 2 + spec.short.via_drill_mm / 2) + c
+    return max(
+        (w + ws) / 2 + c,
+        (spec.feed.pad_width_mm + spec.short.pad_span_mm) / 2 + board.min_clearance_mm,
+        spec.feed.pad_width_mm / 2 + spec.short.via_drill_mm / 2 + board.min_hole_clearance_mm,
+    )
 
 
 class _Evaluator:

@@ -127,6 +127,8 @@ class FabLimits:
     min_annular_ring_mm: float
     min_hole_to_hole_mm: float
     min_copper_to_edge_mm: float
+    #: Copper to the wall of a hole in other copper (KiCad's "copper to hole clearance").
+    min_hole_clearance_mm: float
 
 
 @dataclass(frozen=True)

@@ -3,7 +3,9 @@
 The plan is what ``footgen.plugin.board`` (the only place that imports ``pcbnew``) turns into a
 ``.kicad_pcb``: an Edge.Cuts outline holding the ground plane and the clearance, a GND pour on
 F.Cu and B.Cu ending at the ground edge, stitching vias, the footprint at the origin point and
-a feed track on the RF net leaving the feed pad into the ground side.  Board coordinates are
+a feed track on the RF net leaving the feed pad into the ground side; on a four-layer board
+the two inner layers carry GND pours too.  The board keeps KiCad's default design rules (the
+project names none) unless ``fab_rules`` asks for the fab profile's.  Board coordinates are
 KiCad's (mm, y down).
 """
 
@@ -11,6 +13,7 @@ from __future__ import annotations
 
 from shapely.geometry import box
 
+from footgen.board_limits import design_limits
 from footgen.geometry.layout import Layout, ground_x_range_mm, placement_matrix
 from footgen.spec import Spec
 
@@ -33,8 +36,31 @@ ANTENNA_NET = "ANT_NODE"
 GND_NET = "GND"
 
 
-def test_board_plan(spec: Spec, layout: Layout, *, library: str, footprint_file: str) -> dict:
+#: Copper layers of the test board's ground pours, by layer count.
+POUR_LAYERS = {2: ("F.Cu", "B.Cu"), 4: ("F.Cu", "In1.Cu", "In2.Cu", "B.Cu")}
+
+
+def fab_board_rules(spec: Spec) -> dict[str, float]:
+    """The fab profile's limits as a board's design-rule constraints (KiCad's names)."""
+    fab = spec.fab
+    return {
+        "min_clearance": fab.min_clearance_mm,
+        "min_track_width": fab.min_trace_mm,
+        "min_connection": fab.min_trace_mm,
+        "min_through_hole_diameter": fab.min_drill_mm,
+        "min_via_annular_width": fab.min_annular_ring_mm,
+        "min_hole_to_hole": fab.min_hole_to_hole_mm,
+        "min_hole_clearance": fab.min_hole_clearance_mm,
+        "min_copper_edge_clearance": fab.min_copper_to_edge_mm,
+    }
+
+
+def test_board_plan(
+    spec: Spec, layout: Layout, *, library: str, footprint_file: str, fab_rules: bool = False, copper_layers: int = 2
+) -> dict:
     """Everything the board builder needs, as plain JSON-able data."""
+    if copper_layers not in POUR_LAYERS:
+        raise ValueError(f"copper_layers must be one of {sorted(POUR_LAYERS)}")
     a, b, c, d = placement_matrix(spec)
     ox, oy = BOARD_ORIGIN_MM
 
@@ -83,22 +109,15 @@ def test_board_plan(spec: Spec, layout: Layout, *, library: str, footprint_file:
         },
         "nets": nets,
         "outline_mm": ring(outline),
-        "ground_zones": [{"layer": layer, "polygon_mm": ring(ground)} for layer in ("F.Cu", "B.Cu")],
-        "zone_clearance_mm": max(ZONE_CLEARANCE_MM, fab.min_clearance_mm),
+        "copper_layers": copper_layers,
+        "ground_zones": [{"layer": layer, "polygon_mm": ring(ground)} for layer in POUR_LAYERS[copper_layers]],
+        "zone_clearance_mm": max(ZONE_CLEARANCE_MM, design_limits(fab).min_clearance_mm),
         "zone_min_width_mm": max(ZONE_MIN_WIDTH_MM, fab.min_trace_mm),
         "feed_track": {"points_mm": track, "width_mm": spec.feed.pad_width_mm},
         "stitch_vias": {"points_mm": vias, "drill_mm": STITCH_VIA_DRILL_MM, "size_mm": STITCH_VIA_SIZE_MM},
-        "netclass_clearance_mm": fab.min_clearance_mm,
-        "rules": {
-            "min_clearance": fab.min_clearance_mm,
-            "min_track_width": fab.min_trace_mm,
-            "min_connection": fab.min_trace_mm,
-            "min_through_hole_diameter": fab.min_drill_mm,
-            "min_via_annular_width": fab.min_annular_ring_mm,
-            "min_hole_to_hole": fab.min_hole_to_hole_mm,
-            "min_hole_clearance": fab.min_clearance_mm,
-            "min_copper_edge_clearance": fab.min_copper_to_edge_mm,
-        },
+        # None: the project names no rules and KiCad applies its defaults
+        "netclass_clearance_mm": fab.min_clearance_mm if fab_rules else None,
+        "rules": fab_board_rules(spec) if fab_rules else None,
     }
 
 

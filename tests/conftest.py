@@ -48,14 +48,9 @@ def update_golden(request: pytest.FixtureRequest) -> bool:
 def kicad_available() -> bool:
     if shutil.which("kicad-cli") is None:
         return False
-    try:
-        from footgen.kicad.testrun import kicad_python
+    from footgen.testrun import KiCad
 
-        kicad_python.cache_clear()
-        kicad_python()
-    except Exception:  # noqa: BLE001 - any failure means "not usable here"
-        return False
-    return True
+    return KiCad().available()
 
 
 @pytest.fixture(scope="session")

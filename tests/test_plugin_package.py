@@ -21,7 +21,7 @@ import pytest
 from PIL import Image
 
 from conftest import ROOT
-from footgen.kicad.testrun import kicad_python
+from footgen.testrun import kicad_python
 
 BUILD_SCRIPT = ROOT / "scripts" / "build_plugin.py"
 VENDORED_SCHEMA = ROOT / "schemas" / "kicad-pcm.v1.schema.json"

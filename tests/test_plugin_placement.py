@@ -19,7 +19,7 @@ from pathlib import Path
 import pytest
 
 from conftest import ROOT, footgen_cmd
-from footgen.kicad.testrun import DrcReport, kicad_python, run_drc
+from footgen.testrun import DrcReport, kicad_python, run_drc
 from footgen.plugin import cli_runner
 from footgen.plugin.placement import PlacementError, ensure_project_library, install_footprint, library_table_names, stackup_laminate
 

@@ -13,6 +13,7 @@ import shapely
 from shapely.geometry import LineString, Point, Polygon, box
 from shapely.geometry.base import BaseGeometry
 
+from footgen.board_limits import design_limits
 from footgen.errors import InfeasibleSpecError, SpecError
 from footgen.geometry.ifa import IfaCopper, Trace
 from footgen.geometry.matching_pads import MatchingPads, matching_pads
@@ -132,9 +133,11 @@ class Sizing:
 
 
 def max_arm_height_mm(spec: Spec) -> float:
-    """Highest arm centreline that keeps the copper inside the clearance and off the board edge."""
+    """Highest arm centreline that keeps the copper inside the clearance and off the board edge
+    (by the fab's copper-to-edge limit or a default board's, whichever is larger)."""
     cl = spec.clearance
-    top = min(cl.depth_mm - spec.fab.min_clearance_mm, cl.depth_mm + cl.edge_distance_mm - spec.fab.min_copper_to_edge_mm)
+    to_edge = design_limits(spec.fab).min_copper_to_edge_mm
+    top = min(cl.depth_mm - spec.fab.min_clearance_mm, cl.depth_mm + cl.edge_distance_mm - to_edge)
     return top - spec.trace_width_mm / 2
 
 
@@ -252,11 +255,13 @@ def canonical_layout(spec: Spec, sizing: Sizing) -> Layout:
 
     # Ground pad (pad 2) below the short leg, holding the shunt vias in a column.  The short leg
     # (part of pad 1's copper) overlaps pad 2 by SHORT_ROOT_OVERLAP_MM; the via holes keep the
-    # fab clearance from it (KiCad checks copper-to-hole clearance even inside a net tie).
+    # copper-to-hole clearance from it (checked even between the pads of a net tie), and each
+    # other the hole-to-hole distance, both at least a default board's.
+    limits = design_limits(fab)
     via_d = short.via_diameter_mm
-    pitch = max(via_d, short.via_drill_mm + fab.min_hole_to_hole_mm)
+    pitch = max(via_d, short.via_drill_mm + limits.min_hole_to_hole_mm)
     n = short.via_count
-    first_via_y = -(SHORT_ROOT_OVERLAP_MM + fab.min_clearance_mm + short.via_drill_mm / 2)
+    first_via_y = -(SHORT_ROOT_OVERLAP_MM + limits.min_hole_clearance_mm + short.via_drill_mm / 2)
     pad2_w = short.pad_span_mm
     pad2_len = max(pl, -first_via_y + (n - 1) * pitch + via_d / 2 if n else 0.0)
     pad2_center = (-s, -pad2_len / 2)
@@ -308,6 +313,11 @@ def canonical_layout(spec: Spec, sizing: Sizing) -> Layout:
         "clearance_depth_mm": cl.depth_mm,
         "meander_turns": float(copper.meander_count),
         "copper_area_mm2": antenna.area,
+        "edge_distance_mm": cl.edge_distance_mm,
+        "port_gap_mm": gap,
+        "short_inset_mm": short_inset_mm(spec),
+        "via_drill_mm": short.via_drill_mm,
+        "meander_pitch_mm": copper.meander_pitch_mm or 0.0,
     }
     return Layout(
         copper=copper,

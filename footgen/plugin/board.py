@@ -33,17 +33,16 @@ def _vec(pt: list[float]) -> "pcbnew.VECTOR2I":
 
 
 def write_project(board_path: Path, plan: dict) -> None:
-    """The .kicad_pro (design rules) and the project fp-lib-table."""
-    rules = dict(plan["rules"])
+    """The .kicad_pro (design rules, or none for KiCad's defaults) and the project fp-lib-table."""
+    settings: dict = {"rule_severities": RAISED_SEVERITIES}
+    if plan.get("rules"):
+        settings["rules"] = dict(plan["rules"])
     project = {
-        "board": {
-            "design_settings": {
-                "rules": rules,
-                "rule_severities": RAISED_SEVERITIES,
-            }
-        },
+        "board": {"design_settings": settings},
         "meta": {"filename": board_path.with_suffix(".kicad_pro").name, "version": 1},
-        "net_settings": {
+    }
+    if plan.get("netclass_clearance_mm") is not None:
+        project["net_settings"] = {
             "classes": [
                 {
                     "name": "Default",
@@ -54,8 +53,7 @@ def write_project(board_path: Path, plan: dict) -> None:
                 }
             ],
             "meta": {"version": 3},
-        },
-    }
+        }
     board_path.with_suffix(".kicad_pro").write_text(json.dumps(project, indent=2) + "\n", "utf-8")
     fp = plan["footprint"]
     lib_dir = Path(fp["file"]).parent
@@ -117,6 +115,7 @@ def build_board(plan: dict, board_path: Path) -> None:
     board_path.parent.mkdir(parents=True, exist_ok=True)
     write_project(board_path, plan)
     board = pcbnew.NewBoard(str(board_path))
+    board.SetCopperLayerCount(int(plan.get("copper_layers", 2)))
     nets = {}
     for role, name in plan["nets"].items():
         net = pcbnew.NETINFO_ITEM(board, name)
@@ -156,12 +155,12 @@ def build_board(plan: dict, board_path: Path) -> None:
 
 
 def fill_zones(board_path: Path) -> None:
-    """Reload the board with its project (so the rules apply), fill every zone, save."""
+    """Reload the board with its project (so the rules apply), fill every zone, save.
+
+    A board loaded from its file fills with the copper-to-edge clearance in KiCad 9 and 10; one
+    built in memory did not in 9.  (``WriteDRCReport`` would also do it in 9, but it crashes a
+    stand-alone Python in 10.)"""
     board = pcbnew.LoadBoard(str(board_path))
-    # The DRC engine must be initialised before filling, or the fill ignores edge clearance.
-    report = board_path.with_suffix(".prefill-drc.txt")
-    pcbnew.WriteDRCReport(board, str(report), pcbnew.EDA_UNITS_MM, False)
-    report.unlink(missing_ok=True)
     filler = pcbnew.ZONE_FILLER(board)
     filler.Fill(board.Zones())
     pcbnew.SaveBoard(str(board_path), board)
