@@ -10,9 +10,11 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from footgen import __version__
+from footgen.explain import explained, time_limit_s
 from footgen.geometry.layout import Layout, Sizing, build_layout
 from footgen.kicad.writer import FootprintMeta, render
-from footgen.outputs import write_outputs
+from footgen.outputs import precheck_edits, write_outputs
+from footgen.physics.problem_size import solve_deadline
 from footgen.rules import Violation, check, report_dict
 from footgen.sizing import size
 from footgen.spec import Spec, load_spec
@@ -38,7 +40,7 @@ class BuildResult:
 
     @property
     def footprint_relpath(self) -> str:
-        return f"{self.spec.library}.pretty/{self.spec.name}.kicad_mod"
+        return output_names(self.spec)["footprint"]
 
 
 def footprint_meta(spec: Spec) -> FootprintMeta:
@@ -62,11 +64,13 @@ def footprint_meta(spec: Spec) -> FootprintMeta:
 
 
 def run(spec: Spec) -> BuildResult:
-    """Size, lay out, check and render one spec (no I/O)."""
-    sizing = size(spec)
-    layout = build_layout(spec, sizing)
-    violations = tuple(check(layout, spec.fab))
-    return BuildResult(spec, sizing, layout, violations, render(layout, footprint_meta(spec)))
+    """Size, lay out, check and render one spec (no I/O).  Errors from the geometry and the
+    solver leave in the spec's terms; the sizing has a wall-clock budget."""
+    with explained(spec.raw), solve_deadline(time_limit_s()):
+        sizing = size(spec)
+        layout = build_layout(spec, sizing)
+        violations = tuple(check(layout, spec.fab))
+        return BuildResult(spec, sizing, layout, violations, render(layout, footprint_meta(spec)))
 
 
 def report_markdown(result: BuildResult) -> str:
@@ -110,16 +114,30 @@ def output_files(result: BuildResult, *, include_footprint: bool) -> dict[str, b
     spec = result.spec
     subtitle = f"{spec.target.low_hz / 1e6:g}-{spec.target.high_hz / 1e6:g} MHz, {spec.style.kind}, revision {spec.revision}"
     svg, png = render_svg_png(result.layout, spec.name, subtitle)
+    names = output_names(spec)
     files = {
-        f"{spec.name}.report.md": report_markdown(result).encode("utf-8"),
-        f"{spec.name}.check.json": (json.dumps(report_dict(list(result.violations), spec.fab), indent=2, sort_keys=True) + "\n").encode("utf-8"),
-        f"{spec.name}.svg": svg,
+        names["report"]: report_markdown(result).encode("utf-8"),
+        names["check"]: (json.dumps(report_dict(list(result.violations), spec.fab), indent=2, sort_keys=True) + "\n").encode("utf-8"),
+        names["svg"]: svg,
+    }
+    if "png" in names:
+        files[names["png"]] = png
+    if include_footprint:
+        files[names["footprint"]] = result.footprint_text.encode("utf-8")
+    return files
+
+
+def output_names(spec: Spec) -> dict[str, str]:
+    """Every file a build of ``spec`` may write, relative to the output folder, by kind."""
+    names = {
+        "report": f"{spec.name}.report.md",
+        "check": f"{spec.name}.check.json",
+        "svg": f"{spec.name}.svg",
+        "footprint": f"{spec.library}.pretty/{spec.name}.kicad_mod",
     }
     if spec.output.drawing_png:
-        files[f"{spec.name}.png"] = png
-    if include_footprint:
-        files[result.footprint_relpath] = result.footprint_text.encode("utf-8")
-    return files
+        names["png"] = f"{spec.name}.png"
+    return names
 
 
 def write_build(result: BuildResult, out_dir: Path, *, force: bool = False, allow_violations: bool = False) -> list[Path]:
@@ -130,5 +148,7 @@ def write_build(result: BuildResult, out_dir: Path, *, force: bool = False, allo
 
 
 def build_spec_file(spec_path: Path, out_dir: Path, *, force: bool = False, allow_violations: bool = False) -> tuple[BuildResult, list[Path]]:
-    result = run(load_spec(spec_path))
+    spec = load_spec(spec_path)
+    precheck_edits(Path(out_dir), sorted(output_names(spec).values()), force=force)  # before any solve
+    result = run(spec)
     return result, write_build(result, out_dir, force=force, allow_violations=allow_violations)

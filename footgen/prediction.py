@@ -76,13 +76,15 @@ class Prediction:
 def predict_spec(spec: Spec, *, model: str = DEFAULT_MODEL, progress: Callable[[int, int], None] | None = None) -> Prediction:
     """Size and lay out ``spec`` as the build does, then sweep the model around the band."""
     result = run(spec)
+    from footgen.explain import explained
     from footgen.geometry.layout import generate_copper
 
-    ifa = printed_ifa(spec, generate_copper(spec, result.sizing))
     f0 = spec.target.center_hz
     freqs = np.linspace((1 - PREDICTION_HALF_SPAN) * f0, (1 + PREDICTION_HALF_SPAN) * f0, SWEEP_POINTS)
     rm = MODELS[model]
-    zin = rm.zin_ohm(freqs, ifa, progress=progress)
+    with explained(spec.raw):
+        ifa = printed_ifa(spec, generate_copper(spec, result.sizing))
+        zin = rm.zin_ohm(freqs, ifa, progress=progress)
     return Prediction(spec, rm.label, freqs, np.asarray(zin, complex))
 
 
