@@ -11,6 +11,7 @@ import numpy as np
 
 from footgen.build import SAFETY_NOTE, run
 from footgen.model import printed_ifa
+from footgen.numfmt import fixed, s11_db
 from footgen.physics.predict import bandwidth_10db, min_s11_frequency_hz, s11_from_zin
 from footgen.sizing import DEFAULT_MODEL, MODELS, PREDICTION_HALF_SPAN
 from footgen.spec import Spec
@@ -55,9 +56,9 @@ class Prediction:
         z0 = self.zin_at(f0)
         lines = [
             f"model: {self.model_label}",
-            f"resonance (min |S11|): {self.f_res_hz / 1e6:.2f} MHz (target {f0 / 1e6:.2f} MHz, {100 * (self.f_res_hz / f0 - 1):+.2f} %)",
-            f"Zin at {f0 / 1e6:.2f} MHz: {z0.real:.1f} {'+' if z0.imag >= 0 else '-'} j{abs(z0.imag):.1f} ohm",
-            f"min S11: {self.min_s11_db:.1f} dB",
+            f"resonance (min |S11|): {self.f_res_hz / 1e6:.2f} MHz (target {f0 / 1e6:.2f} MHz, {fixed(100 * (self.f_res_hz / f0 - 1), 2, sign=True)} %)",
+            f"Zin at {f0 / 1e6:.2f} MHz: {fixed(z0.real, 1)} {'-' if round(z0.imag, 1) < 0 else '+'} j{fixed(abs(z0.imag), 1)} ohm",
+            f"min S11: {s11_db(self.min_s11_db)}",
         ]
         band = self.band_10db_hz
         if band is None:
