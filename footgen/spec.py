@@ -576,14 +576,16 @@ def fab_findings(spec: Spec) -> list[FabFinding]:
         if value + FAB_SLACK_MM < limit:
             out.append(FabFinding(rule, SpecError(path, value, f"below the fab minimum {what} of profile {fab.name!r}; at least {limit:g}")))
 
-    widths = {
-        "$.trace_width_mm": spec.trace_width_mm,
-        "$.short.stub_width_mm": spec.short.stub_width_mm,
-        "$.feed.pad_width_mm": spec.feed.pad_width_mm,
-        "$.feed.pad_length_mm": spec.feed.pad_length_mm,
+    raw_feed = spec.raw.get("feed", {}) if isinstance(spec.raw, dict) else {}
+    widths = {  # a width left to its default (the trace width) is reported once, as the trace's
+        "$.trace_width_mm": (spec.trace_width_mm, True),
+        "$.short.stub_width_mm": (spec.short.stub_width_mm, "stub_width_mm" in raw_short),
+        "$.feed.pad_width_mm": (spec.feed.pad_width_mm, "pad_width_mm" in raw_feed),
+        "$.feed.pad_length_mm": (spec.feed.pad_length_mm, True),
     }
-    for path, value in widths.items():
-        below("trace_width", path, value, fab.min_trace_mm, "copper width")
+    for path, (value, given) in widths.items():
+        if given:
+            below("trace_width", path, value, fab.min_trace_mm, "copper width")
     below("ground_edge_distance", "$.feed.port_gap_mm", spec.feed.port_gap_mm, fab.min_clearance_mm, "copper clearance")
     if spec.short.via_count:
         below("via_drill", "$.short.via_drill_mm", spec.short.via_drill_mm, fab.min_drill_mm, "drill")
