@@ -29,6 +29,8 @@ TRANSLATIONS: dict[str, tuple[str, str]] = {
     "port_gap_m": ("$.feed.port_gap_mm", "the gap around the feed pad cannot be modelled; give a gap of at least the fab copper clearance"),
     "feed_x_m": ("$.arm.feed_short_spacing_mm", "the feed tap does not land on the arm; give a smaller feed tap or leave it to the sizing"),
     "node merge tolerance": ("$.trace_width_mm", "some copper pieces are shorter than the solver resolves; use a wider clearance area, fewer meander turns or a narrower trace"),
+    "above the ground edge": ("$.arm.height_mm", "the arm copper would touch the ground edge; raise the arm or use a narrower trace"),
+    "quarter-wave resonance": ("$.arm", "the model finds no resonance for this arm; leave length_mm and feed_short_spacing_mm to the sizing or give values near a quarter wavelength"),
     "arm_path_m": ("$.clearance.width_mm", "the arm's path cannot be modelled in this clearance area; widen it, or change the arm length or meander"),
     "eps_r": ("$.laminate.eps_r", "the laminate cannot be modelled; give its relative permittivity (1 to 15)"),
     "thickness": ("$.laminate.thickness_mm", "the laminate cannot be modelled; give its thickness in mm"),

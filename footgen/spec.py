@@ -551,6 +551,15 @@ def _check_arm_and_ground(spec: Spec) -> None:
             raise SpecError("$.history", number, f"history names revision {number}, above revision {spec.revision}")
     if spec.feed.pad_width_mm < w:
         raise SpecError("$.feed.pad_width_mm", spec.feed.pad_width_mm, f"must be >= trace_width_mm ({w:g})")
+    if spec.arm.feed_short_spacing_mm is not None:
+        from footgen.sizing import min_spacing_mm  # imports this module: only when needed
+
+        least = min_spacing_mm(spec)
+        if spec.arm.feed_short_spacing_mm + FAB_SLACK_MM < least:
+            raise SpecError(
+                "$.arm.feed_short_spacing_mm", spec.arm.feed_short_spacing_mm,
+                f"the feed and short legs, their pads and vias need the fab clearance between them; at least {least:.3f}",
+            )
 
 
 @dataclass(frozen=True)
