@@ -137,10 +137,11 @@ def test_any_accepted_spec_sizes_and_lays_out_or_is_refused_cleanly(data: dict) 
     assert time.monotonic() - start < HANG_S
 
 
-@settings(max_examples=6, deadline=None, suppress_health_check=[HealthCheck.too_slow, HealthCheck.filter_too_much])
-@given(SPECS)
+@settings(max_examples=5, deadline=None, suppress_health_check=[HealthCheck.too_slow, HealthCheck.filter_too_much])
+@given(_near_start())
 def test_any_accepted_spec_checks_through_the_cli_cleanly(tmp_path_factory, data: dict) -> None:
-    """Full solver, through the CLI: exit 0 or 1 (built, rules checked) or 2 (one line)."""
+    """Full solver, through the CLI, on specs near the shipped ones (most reach the solver):
+    exit 0 or 1 (built, rules checked) or 2 (one line)."""
     spec = tmp_path_factory.mktemp("prop") / "spec.json"
     spec.write_text(json.dumps(data), "utf-8")
     start = time.monotonic()
