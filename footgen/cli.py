@@ -201,13 +201,15 @@ def draw_cmd(spec: Path, output: Path, force: bool) -> None:
     """
     from footgen.build import run
     from footgen.draw import render_svg_png
-    from footgen.outputs import write_outputs
+    from footgen.outputs import precheck_edits, write_outputs
     from footgen.spec import load_spec
 
     suffix = output.suffix.lower()
     if suffix not in (".svg", ".png"):
         raise click.BadParameter(f"{output}: use a .svg or .png file name", param_hint="--output")
-    result = run(load_spec(spec))
+    loaded = load_spec(spec)
+    precheck_edits(output.parent, [output.name], force=force)  # before any solve
+    result = run(loaded)
     svg, png = render_svg_png(result.layout, result.spec.name, result.spec.target.label)
     write_outputs(output.parent, {output.name: svg if suffix == ".svg" else png}, force=force)
     click.echo(f"wrote {output}")
@@ -227,7 +229,7 @@ def predict_cmd(spec: Path, s1p: Path | None, plot: Path | None, model: str | No
     Example:
       footgen predict examples/soil-probe-2g4.json --plot s11.png --s1p predicted.s1p
     """
-    from footgen.outputs import write_outputs
+    from footgen.outputs import precheck_edits, write_outputs
     from footgen.prediction import plot_s11, predict_spec, touchstone_text
     from footgen.sizing import DEFAULT_MODEL, MODELS
     from footgen.spec import load_spec
@@ -236,6 +238,9 @@ def predict_cmd(spec: Path, s1p: Path | None, plot: Path | None, model: str | No
     if name not in MODELS:
         raise click.BadParameter(f"{name!r}: choose one of {', '.join(MODELS)}", param_hint="--model")
     loaded = load_spec(spec)
+    targets = [p for p in (s1p, plot and plot.with_suffix(".png"), plot and plot.with_suffix(".svg")) if p is not None]
+    for target in targets:  # before any solve
+        precheck_edits(target.parent, [target.name], force=force)
     click.echo("sizing and sweeping ...", err=True)
     prediction = predict_spec(loaded, model=name, progress=_progress_printer("sweep"))
     for line in prediction.summary_lines():

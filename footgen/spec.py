@@ -350,16 +350,39 @@ def parse_json_text(text: str, where: str = "spec") -> object:
     except json.JSONDecodeError as exc:
         raise SpecError(f"{where}:{exc.lineno}:{exc.colno}", "invalid JSON", exc.msg) from None
     except _JsonValueError as exc:
-        raise SpecError(where, exc.value, exc.fix) from None
+        raise SpecError(_where_in_text(text, exc.token, where), exc.value, exc.fix) from None
 
 
 class _JsonValueError(ValueError):
     """A literal that strict JSON (or a spec) does not allow; raised from the decoder's hooks."""
 
-    def __init__(self, value: str, fix: str) -> None:
+    def __init__(self, value: str, fix: str, token: str) -> None:
         super().__init__(fix)
         self.value = value
         self.fix = fix
+        self.token = token  # the text to look for outside strings, to say where it is
+
+
+def _where_in_text(text: str, token: str, where: str) -> str:
+    """``where:line:column`` of the first ``token`` outside JSON strings, else ``where``."""
+    if not token:
+        return where
+    in_string = escaped = False
+    line, column = 1, 1
+    for i, ch in enumerate(text):
+        if in_string:
+            if escaped:
+                escaped = False
+            elif ch == "\\":
+                escaped = True
+            elif ch == '"':
+                in_string = False
+        elif ch == '"':
+            in_string = True
+        elif text.startswith(token, i):
+            return f"{where}:{line}:{column}"
+        line, column = (line + 1, 1) if ch == "\n" else (line, column + 1)
+    return where
 
 
 def _nesting_depth(text: str) -> int:
@@ -388,27 +411,27 @@ def _unique_keys(pairs: list[tuple[str, object]]) -> dict:
     out: dict = {}
     for key, value in pairs:
         if key in out:
-            raise _JsonValueError(_short_text(key), f"duplicate key {_short_text(key)!r}: give each field once")
+            raise _JsonValueError(_short_text(key), f"duplicate key {_short_text(key)!r}: give each field once", "")
         out[key] = value
     return out
 
 
 def _refuse_constant(name: str) -> float:
-    raise _JsonValueError(name, f"{name} is not a JSON number; give a finite number")
+    raise _JsonValueError(name, f"{name} is not a JSON number; give a finite number", name)
 
 
 def _parse_int(text: str) -> int:
     if len(text.lstrip("-")) > MAX_NUMBER_CHARS:
-        raise _JsonValueError(_short_text(text), f"a number of {len(text)} digits; numbers in a spec have at most {MAX_NUMBER_CHARS}")
+        raise _JsonValueError(_short_text(text), f"a number of {len(text)} digits; numbers in a spec have at most {MAX_NUMBER_CHARS}", text)
     return int(text)
 
 
 def _parse_float(text: str) -> float:
     if len(text) > MAX_NUMBER_CHARS:
-        raise _JsonValueError(_short_text(text), f"a number of {len(text)} characters; numbers in a spec have at most {MAX_NUMBER_CHARS}")
+        raise _JsonValueError(_short_text(text), f"a number of {len(text)} characters; numbers in a spec have at most {MAX_NUMBER_CHARS}", text)
     value = float(text)
     if not math.isfinite(value):
-        raise _JsonValueError(_short_text(text), "out of the range of a finite number; give a finite number")
+        raise _JsonValueError(_short_text(text), "out of the range of a finite number; give a finite number", text)
     return value
 
 

@@ -215,3 +215,18 @@ def test_hand_edits_refused_before_any_solve_listing_every_file(tmp_path: Path, 
     assert result.exit_code == 3, result.output
     line = result.stderr.strip()
     assert "\n" not in line and report.name in line and check.name in line and "edited since footgen wrote it" in line
+
+
+def test_draw_refuses_a_hand_edited_drawing_before_any_solve(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    svg = tmp_path / "a.svg"
+    write_outputs(tmp_path, {svg.name: b"<svg/>"})
+    svg.write_text("<svg>mine</svg>")
+    import footgen.build
+
+    def no_solve(*_args, **_kwargs):
+        raise AssertionError("the spec was solved before the hand-edit check")
+
+    monkeypatch.setattr(footgen.build, "run", no_solve)
+    result = CliRunner().invoke(main, ["draw", str(SOIL), "-o", str(svg)])
+    assert result.exit_code == 3 and "a.svg edited since footgen wrote it" in result.stderr
+    assert svg.read_text() == "<svg>mine</svg>"
