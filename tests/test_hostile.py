@@ -469,3 +469,9 @@ def test_awkward_description_loads_in_kicad(tmp_path: Path, kicad: None) -> None
     # KiCad 9 writes the description back with the same escapes it read
     escaped = AWKWARD.replace("\\", "\\\\").replace('"', '\\"')
     assert escaped in text
+
+
+def test_plugin_knows_every_exit_code() -> None:
+    from footgen.plugin.cli_runner import EXIT_MEANINGS
+
+    assert EXIT_INTERNAL in EXIT_MEANINGS and "internal" in EXIT_MEANINGS[EXIT_INTERNAL]
