@@ -42,6 +42,9 @@ DIM_ROWS: tuple[tuple[str, str, str], ...] = (
     ("copper_area_mm2", "copper area", "mm^2"),
 )
 
+#: Dimensions that are counts (shown without decimals).
+COUNT_DIMS = frozenset({"meander_turns"})
+
 
 class FootprintReadError(FootgenError):
     """A ``.kicad_mod`` file cannot be read as a footgen antenna footprint."""
@@ -132,7 +135,8 @@ def spec_changes(old: dict, new: dict) -> tuple[Row, ...]:
 
 
 def diff_layouts(old: Layout, new: Layout, old_label: str, new_label: str, changes: tuple[Row, ...] = ()) -> RevisionDiff:
-    rows = [Row(label, float(old.dims[key]), float(new.dims[key]), unit) for key, label, unit in DIM_ROWS]
+    kind = {key: int if key in COUNT_DIMS else float for key, _, _ in DIM_ROWS}
+    rows = [Row(label, kind[key](old.dims[key]), kind[key](new.dims[key]), unit) for key, label, unit in DIM_ROWS]
     rows += _extent_rows(old.antenna, new.antenna)
     return RevisionDiff(old_label, new_label, tuple(rows), changes, old.antenna, new.antenna)
 
@@ -291,11 +295,16 @@ def diff_files(old: Path, new: Path, model: str = sizing.DEFAULT_MODEL) -> Revis
 # --------------------------------------------------------------------------------- output
 
 
+def _fmt_delta(row: Row, delta: float) -> str:
+    counts = isinstance(row.old, int) and isinstance(row.new, int)
+    return fixed(delta, 0 if counts else 4, sign=True)
+
+
 def _fmt(value: object) -> str:
     if value is None:
         return "(none)"
     if isinstance(value, float):
-        return fixed(value, 0) if value.is_integer() else fixed(value, 4)
+        return fixed(value, 4)
     if isinstance(value, str):
         return value
     return json.dumps(value)
@@ -309,7 +318,7 @@ def diff_markdown(diff: RevisionDiff) -> str:
     lines += ["| quantity | old | new | change |", "| --- | --- | --- | --- |"]
     for r in diff.rows:
         d = r.delta
-        change = f"{fixed(d, 4, sign=True)} {r.unit}".rstrip() if d is not None and r.changed else "-"
+        change = f"{_fmt_delta(r, d)} {r.unit}".rstrip() if d is not None and r.changed else "-"
         lines.append(f"| {r.name} | {_fmt(r.old)} {r.unit} | {_fmt(r.new)} {r.unit} | {change} |".replace("  |", " |"))
     if diff.spec_changes:
         lines += ["", "| spec field | old | new |", "| --- | --- | --- |"]
@@ -323,7 +332,7 @@ def diff_lines(diff: RevisionDiff) -> list[str]:
     out = [f"{diff.old_label} -> {diff.new_label}" + ("" if diff.changed else ": no change")]
     for r in diff.rows:
         d = r.delta
-        mark = f" ({fixed(d, 4, sign=True)} {r.unit})".replace(" )", ")") if d is not None and r.changed else ""
+        mark = f" ({_fmt_delta(r, d)} {r.unit})".replace(" )", ")") if d is not None and r.changed else ""
         out.append(f"  {r.name}: {_fmt(r.old)} -> {_fmt(r.new)} {r.unit}{mark}".rstrip())
     out += [f"  {r.name}: {_fmt(r.old)} -> {_fmt(r.new)}" for r in diff.spec_changes]
     return out
