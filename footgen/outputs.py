@@ -302,8 +302,13 @@ def write_outputs(folder: Path, files: dict[str, bytes], *, force: bool = False)
             for tmp in temps.values():
                 tmp.unlink(missing_ok=True)
             raise
-        for rel in rels:  # phase 3
-            os.replace(temps[rel], folder / rel)
+        try:
+            for rel in rels:  # phase 3
+                os.replace(temps[rel], folder / rel)
+                del temps[rel]
+        finally:  # a failed rename: the files not yet replaced keep their old content
+            for tmp in temps.values():
+                tmp.unlink(missing_ok=True)
         recorded.update(new)
         try:
             _write_manifest(folder, recorded)  # phase 4
