@@ -7,17 +7,22 @@ from __future__ import annotations
 
 import json
 from dataclasses import dataclass
+from functools import cached_property
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from footgen import __version__
 from footgen.explain import explained, time_limit_s
 from footgen.geometry.layout import Layout, Sizing, build_layout
-from footgen.kicad.writer import FootprintMeta, render
+from footgen.errors import FootgenError, SpecError
 from footgen.outputs import precheck_edits, write_outputs
 from footgen.physics.problem_size import solve_deadline
 from footgen.rules import Violation, check, report_dict
 from footgen.sizing import size
 from footgen.spec import Spec, load_spec
+
+if TYPE_CHECKING:
+    from footgen.kicad.writer import FootprintMeta
 
 SAFETY_NOTE = (
     "footgen's dimensions and predictions are estimates: they never replace measurement of the "
@@ -32,7 +37,14 @@ class BuildResult:
     sizing: Sizing
     layout: Layout
     violations: tuple[Violation, ...]
-    footprint_text: str
+
+    @cached_property
+    def footprint_text(self) -> str:
+        """The .kicad_mod text (rendered on first use: `check` never needs it)."""
+        from footgen.kicad.writer import render
+
+        with explained(self.spec.raw):
+            return render(self.layout, footprint_meta(self.spec))
 
     @property
     def ok(self) -> bool:
@@ -44,6 +56,8 @@ class BuildResult:
 
 
 def footprint_meta(spec: Spec) -> FootprintMeta:
+    from footgen.kicad.writer import FootprintMeta
+
     band = f"{spec.target.low_hz / 1e6:g}-{spec.target.high_hz / 1e6:g} MHz"
     style = "meandered inverted-F antenna" if spec.style.kind == "meandered" else "inverted-F antenna"
     description = f"Printed {style}, {band}, eps_r {spec.laminate.eps_r:g}, {spec.laminate.thickness_mm:g} mm laminate"
@@ -64,13 +78,14 @@ def footprint_meta(spec: Spec) -> FootprintMeta:
 
 
 def run(spec: Spec) -> BuildResult:
-    """Size, lay out, check and render one spec (no I/O).  Errors from the geometry and the
-    solver leave in the spec's terms; the sizing has a wall-clock budget."""
+    """Size, lay out and check one spec (no I/O); the footprint text is rendered when first read.
+    Errors from the geometry and the solver leave in the spec's terms; the sizing has a
+    wall-clock budget."""
     with explained(spec.raw), solve_deadline(time_limit_s()):
         sizing = size(spec)
         layout = build_layout(spec, sizing)
         violations = tuple(check(layout, spec.fab))
-        return BuildResult(spec, sizing, layout, violations, render(layout, footprint_meta(spec)))
+    return BuildResult(spec, sizing, layout, violations)
 
 
 def report_markdown(result: BuildResult) -> str:
@@ -109,19 +124,19 @@ def report_markdown(result: BuildResult) -> str:
 
 def output_files(result: BuildResult, *, include_footprint: bool) -> dict[str, bytes]:
     """The files of a build, relative to the output folder."""
-    from footgen.draw import render_svg_png  # matplotlib is slow to import: only when drawing
+    from footgen.draw import drawing
 
     spec = result.spec
     subtitle = f"{spec.target.low_hz / 1e6:g}-{spec.target.high_hz / 1e6:g} MHz, {spec.style.kind}, revision {spec.revision}"
-    svg, png = render_svg_png(result.layout, spec.name, subtitle)
+    canvas = drawing(result.layout, spec.name, subtitle, result.violations)
     names = output_names(spec)
     files = {
         names["report"]: report_markdown(result).encode("utf-8"),
         names["check"]: (json.dumps(report_dict(list(result.violations), spec.fab), indent=2, sort_keys=True) + "\n").encode("utf-8"),
-        names["svg"]: svg,
+        names["svg"]: canvas.svg(),
     }
-    if "png" in names:
-        files[names["png"]] = png
+    if "png" in names:  # the PNG is rasterised only when asked for
+        files[names["png"]] = canvas.png()
     if include_footprint:
         files[names["footprint"]] = result.footprint_text.encode("utf-8")
     return files
@@ -152,3 +167,32 @@ def build_spec_file(spec_path: Path, out_dir: Path, *, force: bool = False, allo
     precheck_edits(Path(out_dir), sorted(output_names(spec).values()), force=force)  # before any solve
     result = run(spec)
     return result, write_build(result, out_dir, force=force, allow_violations=allow_violations)
+
+
+def build_spec_files(spec_paths: list[Path], out_dir: Path, *, force: bool = False,
+                     allow_violations: bool = False) -> list[tuple[BuildResult, list[Path]]]:
+    """Build several specs into one folder in one process.  Every spec is loaded, sized and
+    checked before anything is written, so bad input in any of them leaves the disk untouched;
+    an error names the spec file it came from."""
+    results: list[BuildResult] = []
+    names: dict[str, Path] = {}
+
+    def naming(path: Path, step):
+        try:
+            return step()
+        except FootgenError as exc:
+            if len(spec_paths) > 1:
+                exc.args = (f"{path}: {exc}",)
+            raise
+
+    specs = [(path, naming(path, lambda path=path: load_spec(path))) for path in spec_paths]
+    targets = sorted({rel for _, spec in specs for rel in output_names(spec).values()})
+    precheck_edits(Path(out_dir), targets, force=force)  # every edited file, before any solve
+    for path, spec in specs:
+        result = naming(path, lambda spec=spec: run(spec))
+        earlier = names.setdefault(result.spec.name, path)
+        if earlier != path:
+            raise SpecError("$.name", result.spec.name, f"{path} and {earlier} share this name; "
+                            "give each spec its own name or build them into separate folders")
+        results.append(result)
+    return [(r, write_build(r, out_dir, force=force, allow_violations=allow_violations)) for r in results]

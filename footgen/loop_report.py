@@ -77,11 +77,27 @@ def _smith_axes(ax) -> None:
             px, py = np.where(inside, px, np.nan), np.where(inside, py, np.nan)
             ax.plot(px, py, color="#a0aec0", lw=0.5)
     ax.plot([-1.0, 1.0], [0.0, 0.0], color="#a0aec0", lw=0.5)
-    ax.set_xlim(-1.05, 1.05)
-    ax.set_ylim(-1.05, 1.05)
+    _smith_labels(ax)
+    ax.set_xlim(-1.2, 1.2)
+    ax.set_ylim(-1.2, 1.2)
     ax.set_aspect("equal")
     ax.set_xticks([])
     ax.set_yticks([])
+
+
+def _smith_labels(ax) -> None:
+    """Values on the chart, normalised to Z0: each resistance circle where it crosses the real
+    axis, each reactance arc where it meets the outer circle (+jx above, -jx below)."""
+    style = dict(fontsize=6.5, color="#4a5568", ha="center", va="center")
+    for r in SMITH_R[1:]:
+        g = float(gamma_from_z(r).real)
+        ax.text(g, 0.0, f"{r:g}", rotation=90, bbox=dict(boxstyle="square,pad=0.1", fc="white", ec="none"), **style)
+    for x in SMITH_X:
+        for sign in (1.0, -1.0):
+            g = complex(gamma_from_z(complex(0.0, sign * x)))
+            ax.text(1.09 * g.real, 1.09 * g.imag, f"{'+' if sign > 0 else '-'}j{x:g}", **style)
+    ax.text(-1.09, 0.0, "0", **style)
+    ax.text(1.09, 0.0, "inf", **style)
 
 
 # --------------------------------------------------------------------------------- content
@@ -103,6 +119,7 @@ class ReportData:
     matched_on: str  # "measured", "corrected prediction" or "predicted"
     corrected_s11: np.ndarray | None = None  # the prediction carried over by a calibration
     calibration: object | None = None  # footgen.retune.Calibration of the previous revision
+    radiation: object | None = None  # footgen.radiation.RadiationSummary at f0 (MoM models only)
 
 
 def _sweep(spec: Spec, measurement: Measurement | None) -> np.ndarray:
@@ -154,7 +171,20 @@ def prepare(spec: Spec, measurement: Measurement | None = None, *, calibration=N
     band = (max(spec.target.low_hz, f[0]), min(spec.target.high_hz, f[-1]))
     say(f"report: matching networks at {f0 / 1e6:.2f} MHz ({matched_on} Zin, {series})")
     plan = matching.plan_match(f_load, z_load, f0, band_hz=band, series=series)
-    return ReportData(spec, model, sz, layout, violations, f, s_pred, measurement, plan, matched_on, s_corr, calibration)
+    return ReportData(spec, model, sz, layout, violations, f, s_pred, measurement, plan, matched_on, s_corr, calibration,
+                      _radiation(spec, sz, model, f))
+
+
+def _radiation(spec: Spec, sz: Sizing, model: str, f: np.ndarray):
+    """Efficiency and peak realised gain at the band centre from the MoM currents, or None."""
+    from footgen.prediction import RADIATION_MODELS
+
+    if model not in RADIATION_MODELS:
+        return None
+    from footgen.radiation import mom_summary
+    from footgen.retune import model_ifa
+
+    return mom_summary(model_ifa(spec, sz), spec.target.center_hz, float(f.max()), mesh=RADIATION_MODELS[model])
 
 
 def _stem(spec: Spec) -> str:
@@ -162,31 +192,21 @@ def _stem(spec: Spec) -> str:
 
 
 def s11_figure(data: ReportData):
-    from matplotlib.figure import Figure
+    from footgen.plots import s11_figure as plot
 
-    fig = Figure(figsize=(8.0, 4.5))
-    ax = fig.add_subplot(1, 1, 1)
-    mhz = data.freq_hz / 1e6
-    lo, hi = data.spec.target.low_hz / 1e6, data.spec.target.high_hz / 1e6
-    ax.axvspan(lo, hi, color="#e2e8f0", label="target band")
-    ax.axhline(MATCH_LEVEL_DB, color="#718096", lw=0.6, ls=":")
-    ax.plot(mhz, touchstone.s11_db(data.predicted_s11), color="#2b6cb0", lw=1.2, label=f"predicted ({data.model} model)")
+    curves = [(data.freq_hz, data.predicted_s11, {"color": "#2b6cb0", "lw": 1.2, "label": f"predicted ({data.model} model)"})]
     if data.corrected_s11 is not None:
-        ax.plot(mhz, touchstone.s11_db(data.corrected_s11), color="#6b46c1", lw=1.2, ls="-.",
-                label="predicted, corrected by the previous measurement")
+        curves.append((data.freq_hz, data.corrected_s11, {"color": "#6b46c1", "lw": 1.2, "ls": "-.",
+                                                          "label": "predicted, corrected by the previous measurement"}))
     if data.measured is not None:
-        ax.plot(data.measured.freq_hz / 1e6, touchstone.s11_db(data.measured.s11), color="#c53030", lw=1.2, label="measured")
+        curves.append((data.measured.freq_hz, data.measured.s11, {"color": "#c53030", "lw": 1.2, "label": "measured"}))
     best = data.plan.best
     if best.parts:
-        ax.plot(data.plan.freq_hz / 1e6, touchstone.s11_db(best.s11), color="#2f855a", lw=1.0, ls="--", label=f"{data.matched_on} with match ({best.label})")
-    ax.set_xlabel("frequency (MHz)", fontsize=8)
-    ax.set_ylabel("|S11| (dB)", fontsize=8)
-    ax.set_title(f"{data.spec.name} revision {data.spec.revision}: S11 against 50 ohm", fontsize=9)
-    ax.tick_params(labelsize=7)
-    ax.legend(fontsize=7, loc="lower left")
-    ax.grid(True, lw=0.3)
-    fig.tight_layout()
-    return fig
+        curves.append((data.plan.freq_hz, best.s11, {"color": "#2f855a", "lw": 1.0, "ls": "--",
+                                                     "label": f"{data.matched_on} with match ({best.label})"}))
+    marked = 2 if data.measured is not None and data.corrected_s11 is not None else (1 if data.measured is not None else 0)
+    title = f"{data.spec.name} revision {data.spec.revision}: S11 against 50 ohm (markers on the {curves[marked][2]['label'].split(' (')[0]} curve)"
+    return plot(title, (data.spec.target.low_hz, data.spec.target.high_hz), curves, marked=marked)
 
 
 def smith_figure(data: ReportData):
@@ -207,7 +227,7 @@ def smith_figure(data: ReportData):
     g0 = gamma_from_z(data.plan.z_at_f0_ohm / Z0_OHM)
     ax.plot([g0.real], [g0.imag], "o", color="black", ms=3, label=f"f0 {data.plan.f0_hz / 1e6:.2f} MHz")
     ax.legend(fontsize=7, loc="lower left")
-    ax.set_title("Smith chart (50 ohm); thick: target band", fontsize=9)
+    ax.set_title("Smith chart, normalised to 50 ohm (r: resistance, jx: reactance); thick: target band", fontsize=8)
     fig.tight_layout()
     return fig
 
@@ -255,6 +275,8 @@ def markdown(data: ReportData, images: dict[str, str], diff_md: str | None = Non
         lines.append(f"| measured | {meas.freq_hz / 1e6:.2f} MHz | {meas.s11_db:.1f} dB | {_z(meas.zin_ohm)} | "
                      f"{_band_text(data.measured.freq_hz, data.measured.s11, f0)} |")
         lines += ["", f"Measured / predicted dip frequency: {meas.freq_hz / f_pred:.4f}."]
+    if data.radiation is not None:
+        lines += [""] + [f"Predicted {line}." for line in data.radiation.lines()]
     best = plan.best
     direct = plan.candidates[0]
     lines += ["", "## Match", "", f"![Smith chart]({images['smith']})", "",
@@ -285,7 +307,8 @@ def report_files(spec: Spec, measurement: Measurement | None = None, *, previous
                  calibration=None, model: str = sizing.DEFAULT_MODEL, series: str = "E24",
                  progress: Progress | None = None) -> dict[str, bytes]:
     """The report's files (relative names -> bytes)."""
-    from footgen.draw import figure_bytes, render_svg_png
+    from footgen.draw import render_svg_png
+    from footgen.plots import figure_bytes
     from footgen.revdiff import diff_layouts, diff_markdown, overlay_svg_png, spec_changes
 
     say = progress or _quiet
@@ -295,7 +318,7 @@ def report_files(spec: Spec, measurement: Measurement | None = None, *, previous
     images = {}
     say("report: drawing")
     subtitle = f"{spec.target.low_hz / 1e6:g}-{spec.target.high_hz / 1e6:g} MHz, {spec.style.kind}, revision {spec.revision}"
-    drawings = {"copper": render_svg_png(data.layout, spec.name, subtitle),
+    drawings = {"copper": render_svg_png(data.layout, spec.name, subtitle, data.violations),
                 "s11": figure_bytes(s11_figure(data)),
                 "smith": figure_bytes(smith_figure(data))}
     diff_md = None

@@ -326,6 +326,10 @@ def test_huge_ground_plane_is_refused_before_allocating(tmp_path: Path) -> None:
 
 def test_sizing_time_budget(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
     monkeypatch.setenv("FOOTGEN_TIME_LIMIT_S", "0.001")
+    monkeypatch.setenv("FOOTGEN_CACHE_DIR", "")  # no cached sizing: the solver must run
+    from footgen.sizing import size
+
+    size.cache_clear()  # nor one remembered from an earlier test in this process
     result = CliRunner().invoke(main, ["check", str(ROOT / "examples" / "soil-probe-2g4.json")])
     line = _one_clean_line(result)
     assert "budget" in line and "FOOTGEN_TIME_LIMIT_S" in line
