@@ -13,10 +13,12 @@ from typing import TYPE_CHECKING
 
 from footgen import __version__
 from footgen.board_limits import design_limits
+from footgen.explain import explained, time_limit_s
 from footgen.geometry.layout import Layout, Sizing, build_layout
 from footgen.errors import FootgenError, SpecError
 from footgen.geometry.matching_pads import assembly_lines
-from footgen.outputs import write_outputs
+from footgen.outputs import precheck_edits, write_outputs
+from footgen.physics.problem_size import solve_deadline
 from footgen.rules import Violation, check, report_dict
 from footgen.sizing import size
 from footgen.spec import FabLimits, Spec, load_spec
@@ -43,7 +45,8 @@ class BuildResult:
         """The .kicad_mod text (rendered on first use: `check` never needs it)."""
         from footgen.kicad.writer import render
 
-        return render(self.layout, footprint_meta(self.spec))
+        with explained(self.spec.raw):
+            return render(self.layout, footprint_meta(self.spec))
 
     @property
     def ok(self) -> bool:
@@ -51,7 +54,7 @@ class BuildResult:
 
     @property
     def footprint_relpath(self) -> str:
-        return f"{self.spec.library}.pretty/{self.spec.name}.kicad_mod"
+        return output_names(self.spec)["footprint"]
 
 
 def footprint_meta(spec: Spec) -> FootprintMeta:
@@ -77,10 +80,13 @@ def footprint_meta(spec: Spec) -> FootprintMeta:
 
 
 def run(spec: Spec) -> BuildResult:
-    """Size, lay out and check one spec (no I/O); the footprint text is rendered when first read."""
-    sizing = size(spec)
-    layout = build_layout(spec, sizing)
-    violations = tuple(check(layout, spec.fab))
+    """Size, lay out and check one spec (no I/O); the footprint text is rendered when first read.
+    Errors from the geometry and the solver leave in the spec's terms; the sizing has a
+    wall-clock budget."""
+    with explained(spec.raw), solve_deadline(time_limit_s()):
+        sizing = size(spec)
+        layout = build_layout(spec, sizing)
+        violations = tuple(check(layout, spec.fab))
     return BuildResult(spec, sizing, layout, violations)
 
 
@@ -163,16 +169,30 @@ def output_files(result: BuildResult, *, include_footprint: bool) -> dict[str, b
     spec = result.spec
     subtitle = f"{spec.target.low_hz / 1e6:g}-{spec.target.high_hz / 1e6:g} MHz, {spec.style.kind}, revision {spec.revision}"
     canvas = drawing(result.layout, spec.name, subtitle, result.violations)
+    names = output_names(spec)
     files = {
-        f"{spec.name}.report.md": report_markdown(result).encode("utf-8"),
-        f"{spec.name}.check.json": (json.dumps(report_dict(list(result.violations), spec.fab), indent=2, sort_keys=True) + "\n").encode("utf-8"),
-        f"{spec.name}.svg": canvas.svg(),
+        names["report"]: report_markdown(result).encode("utf-8"),
+        names["check"]: (json.dumps(report_dict(list(result.violations), spec.fab), indent=2, sort_keys=True) + "\n").encode("utf-8"),
+        names["svg"]: canvas.svg(),
     }
-    if spec.output.drawing_png:  # the PNG is rasterised only when asked for
-        files[f"{spec.name}.png"] = canvas.png()
+    if "png" in names:  # the PNG is rasterised only when asked for
+        files[names["png"]] = canvas.png()
     if include_footprint:
-        files[result.footprint_relpath] = result.footprint_text.encode("utf-8")
+        files[names["footprint"]] = result.footprint_text.encode("utf-8")
     return files
+
+
+def output_names(spec: Spec) -> dict[str, str]:
+    """Every file a build of ``spec`` may write, relative to the output folder, by kind."""
+    names = {
+        "report": f"{spec.name}.report.md",
+        "check": f"{spec.name}.check.json",
+        "svg": f"{spec.name}.svg",
+        "footprint": f"{spec.library}.pretty/{spec.name}.kicad_mod",
+    }
+    if spec.output.drawing_png:
+        names["png"] = f"{spec.name}.png"
+    return names
 
 
 def write_build(result: BuildResult, out_dir: Path, *, force: bool = False, allow_violations: bool = False) -> list[Path]:
@@ -183,7 +203,9 @@ def write_build(result: BuildResult, out_dir: Path, *, force: bool = False, allo
 
 
 def build_spec_file(spec_path: Path, out_dir: Path, *, force: bool = False, allow_violations: bool = False) -> tuple[BuildResult, list[Path]]:
-    result = run(load_spec(spec_path))
+    spec = load_spec(spec_path)
+    precheck_edits(Path(out_dir), sorted(output_names(spec).values()), force=force)  # before any solve
+    result = run(spec)
     return result, write_build(result, out_dir, force=force, allow_violations=allow_violations)
 
 
@@ -194,13 +216,20 @@ def build_spec_files(spec_paths: list[Path], out_dir: Path, *, force: bool = Fal
     an error names the spec file it came from."""
     results: list[BuildResult] = []
     names: dict[str, Path] = {}
-    for path in spec_paths:
+
+    def naming(path: Path, step):
         try:
-            result = run(load_spec(path))
+            return step()
         except FootgenError as exc:
             if len(spec_paths) > 1:
                 exc.args = (f"{path}: {exc}",)
             raise
+
+    specs = [(path, naming(path, lambda path=path: load_spec(path))) for path in spec_paths]
+    targets = sorted({rel for _, spec in specs for rel in output_names(spec).values()})
+    precheck_edits(Path(out_dir), targets, force=force)  # every edited file, before any solve
+    for path, spec in specs:
+        result = naming(path, lambda spec=spec: run(spec))
         earlier = names.setdefault(result.spec.name, path)
         if earlier != path:
             raise SpecError("$.name", result.spec.name, f"{path} and {earlier} share this name; "

@@ -2,7 +2,8 @@
 
 Exit codes: 0 success; 1 rule violations (the build or check found fab-rule errors);
 2 bad input (spec, measurement or option); 3 refused to overwrite a hand-edited file;
-4 KiCad missing or failed.
+4 KiCad missing or failed; 5 internal error (a bug: one line asking for a report);
+130 interrupted.  Every error is one line on stderr.
 """
 
 from __future__ import annotations
@@ -19,25 +20,61 @@ os.environ.setdefault("OPENBLAS_NUM_THREADS", "1")
 import click  # noqa: E402
 
 from footgen import __version__  # noqa: E402
-from footgen.errors import FootgenError  # noqa: E402
+from footgen.errors import EXIT_INTERNAL, FootgenError, one_line  # noqa: E402
 
 EXIT_RULES = 1
 EXIT_INPUT = 2
+EXIT_INTERRUPTED = 130
+
+
+#: click 8.2+ raises this for a bare `footgen`; older versions print the help themselves.
+_NO_ARGS_IS_HELP = getattr(click.exceptions, "NoArgsIsHelpError", ())
+
+
+def _error(message: str) -> None:
+    click.echo(f"footgen: error: {one_line(message)}", err=True)
 
 
 class FootgenGroup(click.Group):
-    """Turns every :class:`FootgenError` into one line on stderr and its exit code."""
+    """Turns every error into one line on stderr and its exit code: :class:`FootgenError` and
+    option errors as such, anything else as an internal error (never a traceback)."""
+
+    def main(self, args=None, prog_name=None, complete_var=None, standalone_mode=True, **extra):  # type: ignore[override]
+        if not standalone_mode:
+            return super().main(args, prog_name, complete_var, standalone_mode, **extra)
+        try:
+            code = super().main(args, prog_name, complete_var, standalone_mode=False, **extra)
+        except _NO_ARGS_IS_HELP as exc:  # plain `footgen`: the help, as click prints it
+            click.echo(exc.ctx.get_help())
+            sys.exit(0)
+        except click.ClickException as exc:  # option and argument errors: one line, not click's three
+            hint = f" (see `{exc.ctx.command_path} --help`)" if getattr(exc, "ctx", None) is not None else ""
+            _error(exc.format_message() + hint)
+            sys.exit(exc.exit_code)
+        except click.exceptions.Abort:
+            _error("interrupted")
+            sys.exit(EXIT_INTERRUPTED)
+        sys.exit(code if isinstance(code, int) else 0)
 
     def invoke(self, ctx: click.Context):  # type: ignore[override]
         try:
             return super().invoke(ctx)
+        except (click.ClickException, click.exceptions.Exit, click.exceptions.Abort):
+            raise
         except FootgenError as exc:
-            click.echo(f"footgen: error: {exc}", err=True)
+            _error(str(exc))
             ctx.exit(exc.exit_code)
         except OSError as exc:  # e.g. an output folder that cannot be written
             where = f"{exc.filename}: " if exc.filename else ""
-            click.echo(f"footgen: error: {where}{exc.strerror or exc}", err=True)
+            _error(f"{where}{exc.strerror or exc}")
             ctx.exit(EXIT_INPUT)
+        except (Exception, RecursionError, MemoryError) as exc:  # noqa: BLE001 - a bug: say so in one line
+            click.echo(
+                f"footgen: internal error: {one_line(f'{exc.__class__.__name__}: {exc}', 160)}; this is a bug in "
+                f"footgen {__version__}: please report it with the spec and command that caused it",
+                err=True,
+            )
+            ctx.exit(EXIT_INTERNAL)
 
 
 @click.group(cls=FootgenGroup, context_settings={"help_option_names": ["-h", "--help"]})
@@ -80,15 +117,23 @@ def new_cmd(template: str | None, output: Path | None, list_: bool, force: bool)
 @main.command("validate")
 @click.argument("spec", type=click.Path(path_type=Path))
 def validate_cmd(spec: Path) -> None:
-    """Check SPEC against the schema and the cross-field rules.
+    """Check SPEC against the schema, the cross-field rules and the fab rules that need no
+    sizing (trace and pad widths, port gap, via drill and ring).  Exits 2 for a bad spec, 1 for
+    fab-rule errors.
 
     \b
     Example:
       footgen validate examples/soil-probe-2g4.json
     """
-    from footgen.spec import load_spec
+    from footgen.spec import fab_findings, load_spec
 
     loaded = load_spec(spec)
+    findings = fab_findings(loaded)
+    for finding in findings:
+        click.echo(finding.line(), err=True)
+    if findings:
+        click.echo(f"{spec}: {len(findings)} fab-rule error(s) against profile {loaded.fab.name!r}; a build would write no footprint")
+        sys.exit(EXIT_RULES)
     click.echo(f"{spec}: valid ({loaded.name}, revision {loaded.revision})")
 
 
@@ -160,13 +205,15 @@ def draw_cmd(spec: Path, output: Path, force: bool) -> None:
     """
     from footgen.build import run
     from footgen.draw import drawing
-    from footgen.outputs import write_outputs
+    from footgen.outputs import precheck_edits, write_outputs
     from footgen.spec import load_spec
 
     suffix = output.suffix.lower()
     if suffix not in (".svg", ".png"):
         raise click.BadParameter(f"{output}: use a .svg or .png file name", param_hint="--output")
-    result = run(load_spec(spec))
+    loaded = load_spec(spec)
+    precheck_edits(output.parent, [output.name], force=force)  # before any solve
+    result = run(loaded)
     canvas = drawing(result.layout, result.spec.name, result.spec.target.label, result.violations)
     write_outputs(output.parent, {output.name: canvas.svg() if suffix == ".svg" else canvas.png()}, force=force)
     click.echo(f"wrote {output}")
@@ -190,7 +237,7 @@ def predict_cmd(spec: Path, s1p: Path | None, plot: Path | None, model: str | No
     Example:
       footgen predict examples/soil-probe-2g4.json --plot s11.png --s1p predicted.s1p
     """
-    from footgen.outputs import write_outputs
+    from footgen.outputs import precheck_edits, write_outputs
     from footgen.prediction import plot_s11, predict_spec, touchstone_text
     from footgen.sizing import DEFAULT_MODEL, MODELS
     from footgen.spec import load_spec
@@ -199,6 +246,9 @@ def predict_cmd(spec: Path, s1p: Path | None, plot: Path | None, model: str | No
     if name not in MODELS:
         raise click.BadParameter(f"{name!r}: choose one of {', '.join(MODELS)}", param_hint="--model")
     loaded = load_spec(spec)
+    targets = [p for p in (s1p, plot and plot.with_suffix(".png"), plot and plot.with_suffix(".svg")) if p is not None]
+    for target in targets:  # before any solve
+        precheck_edits(target.parent, [target.name], force=force)
     click.echo("sizing and sweeping ...", err=True)
     prediction = predict_spec(loaded, model=name, calibrate=not uncalibrated, progress=_progress_printer("sweep"), radiation=True)
     for line in prediction.summary_lines():

@@ -1,10 +1,16 @@
 """Exception classes.  Every user-facing error renders as one line (``str(err)``).
 
 The CLI catches :class:`FootgenError` and prints ``footgen: error: <message>`` with a non-zero
-exit; anything else is a bug and keeps its traceback.
+exit.  Anything else is a bug in footgen: the CLI prints one line asking for a report and exits
+with :data:`EXIT_INTERNAL`, never with a rule-violation or bad-input code.
 """
 
 from __future__ import annotations
+
+#: Exit code of an unexpected internal error (a bug in footgen, not the user's input).
+EXIT_INTERNAL = 5
+#: Longest error line the CLI prints (characters); longer messages are cut with "...".
+MAX_MESSAGE_CHARS = 600
 
 
 class FootgenError(Exception):
@@ -53,6 +59,14 @@ class KiCadError(FootgenError):
     exit_code = 4
 
 
+class ProblemTooLargeError(SpecError):
+    """The numerical model of a spec would exceed the solver's size or memory budget."""
+
+
+class TimeLimitError(FootgenError):
+    """Sizing ran past its wall-clock budget."""
+
+
 class SolverError(FootgenError):
     """A numerical model was asked for something outside its validity range."""
 
@@ -60,3 +74,11 @@ class SolverError(FootgenError):
 def _short(value: object, limit: int = 60) -> str:
     text = repr(value)
     return text if len(text) <= limit else text[: limit - 3] + "..."
+
+
+def one_line(text: str, limit: int = MAX_MESSAGE_CHARS) -> str:
+    """``text`` as one printable line of at most ``limit`` characters: line breaks and other
+    control characters become spaces, runs of spaces collapse, a long text ends in "..."."""
+    flat = "".join(" " if (ord(ch) < 32 or ord(ch) == 127) else ch for ch in str(text))
+    flat = " ".join(flat.split())
+    return flat if len(flat) <= limit else flat[: limit - 3] + "..."

@@ -22,6 +22,7 @@ from footgen.build import SAFETY_NOTE
 from footgen.calibration import Calibration, of_spec
 from footgen.geometry.layout import Sizing, generate_copper
 from footgen.model import printed_ifa
+from footgen.numfmt import fixed, s11_db
 from footgen.physics.ifa import PrintedIfa
 from footgen.physics.predict import bandwidth_10db, s11_from_zin
 from footgen.sizing import DEFAULT_MODEL, MODELS, PREDICTION_HALF_SPAN, SEARCH_MESH
@@ -220,10 +221,10 @@ class Prediction:
         lines = [
             f"model: {self.model_label}",
             self.calibration_line(),
-            f"resonance (min |S11|): {res.freq_hz / 1e6:.2f} MHz (target {f0 / 1e6:.2f} MHz, {_percent(res.freq_hz / f0 - 1)} %)"
+            f"resonance (min |S11|): {res.freq_hz / 1e6:.2f} MHz (target {f0 / 1e6:.2f} MHz, {fixed(100 * (res.freq_hz / f0 - 1), 2, sign=True)} %)"
             + (" at the sweep edge: the resonance lies beyond" if res.at_edge else ""),
-            f"Zin at {f0 / 1e6:.2f} MHz: {z0.real:.1f} {'+' if z0.imag >= 0 else '-'} j{abs(z0.imag):.1f} ohm",
-            f"min S11: {self.min_s11_db:.1f} dB",
+            f"Zin at {f0 / 1e6:.2f} MHz: {fixed(z0.real, 1)} {'-' if round(z0.imag, 1) < 0 else '+'} j{fixed(abs(z0.imag), 1)} ohm",
+            f"min S11: {s11_db(self.min_s11_db)}",
         ]
         band = self.band_10db_hz
         if band is None:
@@ -241,26 +242,24 @@ class Prediction:
         return lines
 
 
-def _percent(rel: float) -> str:
-    text = f"{100 * rel:+.2f}"
-    return "+0.00" if text == "-0.00" else text
-
-
 def predict_spec(spec: Spec, *, model: str = DEFAULT_MODEL, calibrate: bool = True,
                  progress: Callable[[int, int], None] | None = None, numbers: Sizing | None = None,
                  radiation: bool = False) -> Prediction:
     """Size ``spec`` as the build does (``numbers`` if already known), sweep the model around the
     band and apply the revision's calibration unless ``calibrate`` is False; with ``radiation``,
     also the efficiency and gain at the band centre (MoM models)."""
-    numbers = sized(spec, model) if numbers is None else numbers
-    freqs = sweep_hz(spec)
-    ifa = copper_ifa(spec, numbers)
-    zin = model_zin_ohm(ifa, freqs, model, progress=progress)
-    summary = None
-    if radiation and model in RADIATION_MODELS:
-        from footgen.radiation import mom_summary
+    from footgen.explain import explained
 
-        summary = mom_summary(ifa, spec.target.center_hz, float(freqs.max()), mesh=RADIATION_MODELS[model])
+    with explained(spec.raw):
+        numbers = sized(spec, model) if numbers is None else numbers
+        freqs = sweep_hz(spec)
+        ifa = copper_ifa(spec, numbers)
+        zin = model_zin_ohm(ifa, freqs, model, progress=progress)
+        summary = None
+        if radiation and model in RADIATION_MODELS:
+            from footgen.radiation import mom_summary
+
+            summary = mom_summary(ifa, spec.target.center_hz, float(freqs.max()), mesh=RADIATION_MODELS[model])
     return Prediction(spec, MODELS[model].label, freqs, zin, of_spec(spec.raw) if calibrate else None, summary)
 
 

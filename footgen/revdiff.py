@@ -21,6 +21,7 @@ from shapely.geometry.base import BaseGeometry
 
 from footgen import sizing
 from footgen.errors import FootgenError, SpecError
+from footgen.numfmt import fixed
 from footgen.geometry.layout import Layout, build_layout
 from footgen.spec import Spec, load_spec
 
@@ -40,6 +41,9 @@ DIM_ROWS: tuple[tuple[str, str, str], ...] = (
     ("clearance_depth_mm", "clearance depth", "mm"),
     ("copper_area_mm2", "copper area", "mm^2"),
 )
+
+#: Dimensions that are counts (shown without decimals).
+COUNT_DIMS = frozenset({"meander_turns"})
 
 
 class FootprintReadError(FootgenError):
@@ -131,7 +135,8 @@ def spec_changes(old: dict, new: dict) -> tuple[Row, ...]:
 
 
 def diff_layouts(old: Layout, new: Layout, old_label: str, new_label: str, changes: tuple[Row, ...] = ()) -> RevisionDiff:
-    rows = [Row(label, float(old.dims[key]), float(new.dims[key]), unit) for key, label, unit in DIM_ROWS]
+    kind = {key: int if key in COUNT_DIMS else float for key, _, _ in DIM_ROWS}
+    rows = [Row(label, kind[key](old.dims[key]), kind[key](new.dims[key]), unit) for key, label, unit in DIM_ROWS]
     rows += _extent_rows(old.antenna, new.antenna)
     return RevisionDiff(old_label, new_label, tuple(rows), changes, old.antenna, new.antenna)
 
@@ -290,11 +295,16 @@ def diff_files(old: Path, new: Path, model: str = sizing.DEFAULT_MODEL) -> Revis
 # --------------------------------------------------------------------------------- output
 
 
+def _fmt_delta(row: Row, delta: float) -> str:
+    counts = isinstance(row.old, int) and isinstance(row.new, int)
+    return fixed(delta, 0 if counts else 4, sign=True)
+
+
 def _fmt(value: object) -> str:
     if value is None:
         return "(none)"
     if isinstance(value, float):
-        return f"{value:.4f}"
+        return fixed(value, 4)
     if isinstance(value, str):
         return value
     return json.dumps(value)
@@ -308,7 +318,7 @@ def diff_markdown(diff: RevisionDiff) -> str:
     lines += ["| quantity | old | new | change |", "| --- | --- | --- | --- |"]
     for r in diff.rows:
         d = r.delta
-        change = f"{d:+.4f} {r.unit}".rstrip() if d is not None and r.changed else "-"
+        change = f"{_fmt_delta(r, d)} {r.unit}".rstrip() if d is not None and r.changed else "-"
         lines.append(f"| {r.name} | {_fmt(r.old)} {r.unit} | {_fmt(r.new)} {r.unit} | {change} |".replace("  |", " |"))
     if diff.spec_changes:
         lines += ["", "| spec field | old | new |", "| --- | --- | --- |"]
@@ -322,7 +332,7 @@ def diff_lines(diff: RevisionDiff) -> list[str]:
     out = [f"{diff.old_label} -> {diff.new_label}" + ("" if diff.changed else ": no change")]
     for r in diff.rows:
         d = r.delta
-        mark = f" ({d:+.4f} {r.unit})".replace(" )", ")") if d is not None and r.changed else ""
+        mark = f" ({_fmt_delta(r, d)} {r.unit})".replace(" )", ")") if d is not None and r.changed else ""
         out.append(f"  {r.name}: {_fmt(r.old)} -> {_fmt(r.new)} {r.unit}{mark}".rstrip())
     out += [f"  {r.name}: {_fmt(r.old)} -> {_fmt(r.new)}" for r in diff.spec_changes]
     return out
@@ -343,7 +353,7 @@ def overlay_svg_png(diff: RevisionDiff) -> tuple[bytes, bytes]:
     ax.set_ylim(y0 - 1.0, y1 + 1.5)
     ax.set_aspect("equal")
     arm = diff.arm_change_mm
-    text = f"copper area {diff.copper_area_change_mm2:+.3f} mm^2" + (f", arm {arm:+.3f} mm" if arm is not None else "")
+    text = f"copper area {fixed(diff.copper_area_change_mm2, 3, sign=True)} mm^2" + (f", arm {fixed(arm, 3, sign=True)} mm" if arm is not None else "")
     ax.set_title(f"{diff.old_label} (dashed) -> {diff.new_label} (filled)\n{text}", fontsize=9)
     ax.legend(loc="lower right", fontsize=7)
     ax.set_xlabel("x (mm), feed point at 0", fontsize=7)

@@ -268,29 +268,58 @@ def _solve_length(ev: _Evaluator, height: float, spacing: float, f0: float) -> f
 
 
 def _box_too_small(ev: _Evaluator, height: float, spacing: float, f0: float, longest: float | None) -> InfeasibleSpecError:
-    """The refusal for a clearance too small, naming the smallest width that would work."""
+    """The refusal for a clearance too small, naming the smallest width that works: a search in
+    1 mm steps (the ground plane widened with the clearance where it would be narrower), never
+    its limit.  A clearance area wider than the ground plane is said as such."""
     spec = ev.spec
-    width = spec.clearance.width_mm
-    step = 1.0
-    while width < WIDEST_BOX_MM:
-        width += step
-        wider = _Evaluator(replace(spec, clearance=replace(spec.clearance, width_mm=width)), ev.model)
-        try:
-            top = _longest_fitting(wider, spacing + min_meander_pitch_mm(spec), height, spacing)
-            if wider.resonance(top, height, spacing) <= f0:
-                break
-        except (InfeasibleSpecError, SolverError):
-            continue
+    gp, cl = spec.ground_plane, spec.clearance
+    if longest is None:
+        blocker = _why_nothing_fits(ev, spacing + min_meander_pitch_mm(spec), height, spacing)
+        if blocker is not None and blocker.path != "$.clearance.width_mm":
+            if gp.width_mm < cl.width_mm:
+                return InfeasibleSpecError(
+                    "$.ground_plane.width_mm", gp.width_mm,
+                    f"the clearance area ({cl.width_mm:g} mm) is wider than the ground plane; {blocker.fix}",
+                )
+            return blocker
+    width = _smallest_working_width(ev, height, spacing, f0)
     hint = "" if spec.style.kind == "meandered" else " or use style meandered"
     if longest is None:
         why = "no arm long enough to pass the feed fits"
     else:
         why = f"the longest arm that fits ({longest:.2f} mm) resonates at {ev.resonance(longest, height, spacing) / 1e6:.1f} MHz"
-    return InfeasibleSpecError(
-        "$.clearance.width_mm",
-        spec.clearance.width_mm,
-        f"too small for {f0 / 1e6:.1f} MHz: {why}; a clearance about {width:.0f} mm wide would work{hint}",
-    )
+    if width is None:
+        advice = f"no clearance area up to {WIDEST_BOX_MM:.0f} mm wide works at this depth: deepen it{hint}"
+    else:
+        ground = f" with a ground plane at least as wide" if width > gp.width_mm else ""
+        advice = f"a clearance area about {width:.0f} mm wide{ground} would work{hint}"
+    return InfeasibleSpecError("$.clearance.width_mm", cl.width_mm, f"too small for {f0 / 1e6:.1f} MHz: {why}; {advice}")
+
+
+def _why_nothing_fits(ev: _Evaluator, length: float, height: float, spacing: float) -> InfeasibleSpecError | None:
+    try:
+        ev.ifa(length, height, spacing)
+    except InfeasibleSpecError as exc:
+        return exc
+    return None
+
+
+def _smallest_working_width(ev: _Evaluator, height: float, spacing: float, f0: float) -> float | None:
+    """Smallest clearance width (whole mm above the spec's) whose longest fitting arm resonates
+    at or below ``f0``; the ground plane grows with the clearance where it would be narrower."""
+    spec = ev.spec
+    width = spec.clearance.width_mm
+    while width < WIDEST_BOX_MM:
+        width = min(math.floor(width) + 1.0, WIDEST_BOX_MM)
+        ground = replace(spec.ground_plane, width_mm=max(spec.ground_plane.width_mm, width))
+        wider = _Evaluator(replace(spec, clearance=replace(spec.clearance, width_mm=width), ground_plane=ground), ev.model)
+        try:
+            top = _longest_fitting(wider, spacing + min_meander_pitch_mm(spec), height, spacing)
+            if wider.resonance(top, height, spacing) <= f0:
+                return width
+        except (InfeasibleSpecError, SolverError):
+            continue
+    return None
 
 
 def _solve_spacing(ev: _Evaluator, length: float, height: float, f0: float, notes: list[str]) -> float:

@@ -11,6 +11,7 @@ from __future__ import annotations
 import difflib
 import hashlib
 import json
+import math
 from dataclasses import dataclass, field
 from importlib import resources
 from pathlib import Path
@@ -20,6 +21,7 @@ import jsonschema
 
 from footgen.bands import BANDS
 from footgen.errors import SpecError
+from footgen.strict_json import MAX_JSON_DEPTH, read_json
 from footgen.resources import shipped
 
 SCHEMA_RESOURCE = "footgen-spec-v1.schema.json"
@@ -200,7 +202,17 @@ def _fix_type(err: jsonschema.ValidationError) -> str:
 
 
 def _fix_pattern(err: jsonschema.ValidationError) -> str:
+    if "u0000" in err.validator_value or "\x00" in err.validator_value:
+        return "must be one line of printable characters: no line breaks, tabs or other control characters"
     return "use letters, digits, '_', '.' or '-' (at most 64 characters, starting with a letter or digit)"
+
+
+def _fix_max_length(err: jsonschema.ValidationError) -> str:
+    return f"too long ({len(err.instance)} characters); at most {err.validator_value}"
+
+
+def _fix_max_items(err: jsonschema.ValidationError) -> str:
+    return f"too many entries ({len(err.instance)}); at most {err.validator_value}"
 
 
 def _fix_required(err: jsonschema.ValidationError) -> str:
@@ -231,6 +243,8 @@ _FIXES: dict[str, Callable[[jsonschema.ValidationError], str]] = {
     "const": _fix_const,
     "type": _fix_type,
     "pattern": _fix_pattern,
+    "maxLength": _fix_max_length,
+    "maxItems": _fix_max_items,
     "required": _fix_required,
     "additionalProperties": _fix_additional,
     "oneOf": _fix_one_of,
@@ -265,8 +279,25 @@ def _extra(err: jsonschema.ValidationError) -> object:
     return extra[0] if extra else err.instance
 
 
+def _non_finite(data: object, path: str = "$", depth: int = 0) -> tuple[str, float] | None:
+    """The first NaN or infinite number in ``data`` (JSON Schema's range checks let NaN pass)."""
+    if depth > MAX_JSON_DEPTH:
+        raise SpecError(path, "nested too deep", f"arrays and objects nest at most {MAX_JSON_DEPTH} deep in a spec")
+    if isinstance(data, float) and not math.isfinite(data):
+        return path, data
+    items = data.items() if isinstance(data, dict) else enumerate(data) if isinstance(data, list) else ()
+    for key, value in items:
+        found = _non_finite(value, f"{path}.{key}" if isinstance(key, str) else f"{path}[{key}]", depth + 1)
+        if found:
+            return found
+    return None
+
+
 def validate(data: object) -> None:
     """Raise :class:`SpecError` for the most relevant schema violation, if any."""
+    bad = _non_finite(data)
+    if bad:
+        raise SpecError(bad[0], bad[1], "must be a finite number")
     validator = jsonschema.Draft202012Validator(load_schema())
     errors = list(validator.iter_errors(data))
     if errors:
@@ -275,19 +306,6 @@ def validate(data: object) -> None:
 
 # ---------------------------------------------------------------------------------------------
 # loading
-
-
-def read_json(path: Path) -> dict:
-    try:
-        text = Path(path).read_text("utf-8")
-    except FileNotFoundError:
-        raise SpecError(str(path), "missing", "no such spec file; start one with `footgen new`") from None
-    except (OSError, UnicodeDecodeError) as exc:
-        raise SpecError(str(path), "unreadable", f"cannot read the file ({exc.__class__.__name__})") from None
-    try:
-        return json.loads(text)
-    except json.JSONDecodeError as exc:
-        raise SpecError(f"{path}:{exc.lineno}:{exc.colno}", "invalid JSON", exc.msg) from None
 
 
 def load_spec(path: Path) -> Spec:
@@ -396,27 +414,135 @@ def _fab(data: dict) -> FabLimits:
     return FabLimits(name=name, **{k: float(v) for k, v in values.items()})
 
 
+#: Largest shunt-via drill per stub width (common practice, no source: a hole much wider than
+#: the short leg it grounds is not a via of that leg any more).
+MAX_VIA_DRILL_PER_STUB_WIDTH = 4.0
+#: The column of shunt vias reaches at most this fraction of the ground plane's length.
+MAX_VIA_COLUMN_PER_GROUND_LENGTH = 0.5
+#: Slack on comparisons against fab minimums (mm), as in the rule checker.
+FAB_SLACK_MM = 1e-6
+
+
 def _cross_checks(spec: Spec) -> None:
-    """Checks across fields that JSON Schema cannot express (geometry feasibility comes later)."""
+    """Checks across fields that JSON Schema cannot express and that need no sizing (geometry
+    feasibility comes later); each raises :class:`SpecError` naming the field to change."""
+    for check in CROSS_CHECKS.values():
+        check(spec)
+
+
+def _check_arm_and_ground(spec: Spec) -> None:
     cl = spec.clearance
     w = spec.trace_width_mm
     if spec.arm.height_mm is not None and spec.arm.height_mm + w / 2 > cl.depth_mm:
         nearest = cl.depth_mm - w / 2
-        raise SpecError("$.arm.height_mm", spec.arm.height_mm, f"arm copper would leave the clearance (depth {cl.depth_mm} mm); at most {nearest:g}")
+        raise SpecError("$.arm.height_mm", spec.arm.height_mm, f"arm copper would leave the clearance area (depth {cl.depth_mm:g} mm); at most {nearest:g}")
     if spec.ground_plane.width_mm < cl.width_mm and abs(spec.ground_plane.offset_mm) > 0.5 * (spec.ground_plane.width_mm + cl.width_mm):
-        raise SpecError("$.ground_plane.offset_mm", spec.ground_plane.offset_mm, "the ground plane must lie below the clearance")
+        raise SpecError("$.ground_plane.offset_mm", spec.ground_plane.offset_mm, "the ground plane must lie below the clearance area")
     for number, _ in spec.history:
         if number > spec.revision:
             raise SpecError("$.history", number, f"history names revision {number}, above revision {spec.revision}")
-    via_span = spec.short.via_diameter_mm
-    if spec.short.via_count and via_span > cl.width_mm:
-        raise SpecError("$.short.via_drill_mm", spec.short.via_drill_mm, "the via does not fit the clearance width")
-    style = spec.style
+    if spec.feed.pad_width_mm < w:
+        raise SpecError("$.feed.pad_width_mm", spec.feed.pad_width_mm, f"must be >= trace_width_mm ({w:g})")
+    if spec.arm.feed_short_spacing_mm is not None:
+        from footgen.sizing import min_spacing_mm  # imports this module: only when needed
+
+        least = min_spacing_mm(spec)
+        if spec.arm.feed_short_spacing_mm + FAB_SLACK_MM < least:
+            raise SpecError(
+                "$.arm.feed_short_spacing_mm", spec.arm.feed_short_spacing_mm,
+                f"the feed and short legs, their pads and vias need the fab clearance between them; at least {least:.3f}",
+            )
+
+
+@dataclass(frozen=True)
+class FabFinding:
+    """A fab-rule error visible in the spec alone (before any sizing): the rule checker's rule
+    name and the spec field, its value and the value that passes."""
+
+    rule: str
+    error: SpecError
+
+    def line(self) -> str:
+        return f"error: {self.rule}: {self.error}"
+
+
+def fab_findings(spec: Spec) -> list[FabFinding]:
+    """Copper widths, gaps and vias against the fab profile: the rule checks that need no sizing
+    (``validate`` reports them; the build's rule check finds them again on the layout)."""
+    fab = spec.fab
+    raw_short = spec.raw.get("short", {}) if isinstance(spec.raw, dict) else {}
+    out: list[FabFinding] = []
+
+    def below(rule: str, path: str, value: float, limit: float, what: str) -> None:
+        if value + FAB_SLACK_MM < limit:
+            out.append(FabFinding(rule, SpecError(path, value, f"below the fab minimum {what} of profile {fab.name!r}; at least {limit:g}")))
+
+    raw_feed = spec.raw.get("feed", {}) if isinstance(spec.raw, dict) else {}
+    widths = {  # a width left to its default (the trace width) is reported once, as the trace's
+        "$.trace_width_mm": (spec.trace_width_mm, True),
+        "$.short.stub_width_mm": (spec.short.stub_width_mm, "stub_width_mm" in raw_short),
+        "$.feed.pad_width_mm": (spec.feed.pad_width_mm, "pad_width_mm" in raw_feed),
+        "$.feed.pad_length_mm": (spec.feed.pad_length_mm, True),
+    }
+    for path, (value, given) in widths.items():
+        if given:
+            below("trace_width", path, value, fab.min_trace_mm, "copper width")
+    below("ground_edge_distance", "$.feed.port_gap_mm", spec.feed.port_gap_mm, fab.min_clearance_mm, "copper clearance")
+    if spec.short.via_count:
+        below("via_drill", "$.short.via_drill_mm", spec.short.via_drill_mm, fab.min_drill_mm, "drill")
+        ring_path = "$.short.via_annular_ring_mm" if "via_annular_ring_mm" in raw_short else "$.fab.min_annular_ring_mm"
+        below("annular_ring", ring_path, spec.short.via_annular_ring_mm, fab.min_annular_ring_mm, "annular ring")
+    return out
+
+
+def _check_vias(spec: Spec) -> None:
+    short, cl, fab = spec.short, spec.clearance, spec.fab
+    if not short.via_count:
+        return
+    most = MAX_VIA_DRILL_PER_STUB_WIDTH * short.stub_width_mm
+    if short.via_drill_mm > most + FAB_SLACK_MM:
+        raise SpecError(
+            "$.short.via_drill_mm", short.via_drill_mm,
+            f"too wide for the {short.stub_width_mm:g} mm short stub; at most {most:g} (or widen short.stub_width_mm)",
+        )
+    if short.via_diameter_mm > cl.width_mm:
+        raise SpecError("$.short.via_drill_mm", short.via_drill_mm, f"the via ({short.via_diameter_mm:g} mm with its ring) does not fit the {cl.width_mm:g} mm clearance area width")
+    pitch = max(short.via_diameter_mm, short.via_drill_mm + fab.min_hole_to_hole_mm)
+    room = MAX_VIA_COLUMN_PER_GROUND_LENGTH * spec.ground_plane.length_mm - fab.min_clearance_mm
+    fits = max(int(room // pitch), 0)
+    if short.via_count > fits:
+        raise SpecError(
+            "$.short.via_count", short.via_count,
+            f"{short.via_count} vias at a {pitch:.2f} mm pitch do not fit half the {spec.ground_plane.length_mm:g} mm ground plane length; at most {fits}",
+        )
+
+
+def _check_meander(spec: Spec) -> None:
+    style, cl, w, c = spec.style, spec.clearance, spec.trace_width_mm, spec.fab.min_clearance_mm
     if style.meander_height_mm is not None and spec.arm.height_mm is not None and style.meander_height_mm >= spec.arm.height_mm:
         raise SpecError(
             "$.style.meander_height_mm",
             style.meander_height_mm,
-            f"must be below the arm height ({spec.arm.height_mm} mm) so the meander stays clear of the ground",
+            f"must be below the arm height ({spec.arm.height_mm:g} mm) so the meander stays clear of the ground",
         )
-    if spec.feed.pad_width_mm < w:
-        raise SpecError("$.feed.pad_width_mm", spec.feed.pad_width_mm, f"must be >= trace_width_mm ({w})")
+    # the arm runs at most c + w/2 below the far side; a turn's bottom stays c + w/2 above the ground edge
+    deepest = cl.depth_mm - 2 * c - w
+    if style.meander_height_mm is not None and style.meander_height_mm > deepest + FAB_SLACK_MM:
+        raise SpecError(
+            "$.style.meander_height_mm", style.meander_height_mm,
+            f"does not fit the {cl.depth_mm:g} mm deep clearance area with this trace and fab clearance; at most {max(deepest, 0):.2f}",
+        )
+    highest = cl.depth_mm - c - w / 2
+    if style.min_height_mm is not None and style.min_height_mm >= highest:
+        raise SpecError("$.style.min_height_mm", style.min_height_mm, f"must be below the highest arm position ({highest:.2f} mm in this clearance area)")
+    narrowest = w + c
+    if style.meander_pitch_mm is not None and style.meander_pitch_mm + FAB_SLACK_MM < narrowest:
+        raise SpecError("$.style.meander_pitch_mm", style.meander_pitch_mm, f"neighbouring legs would break the fab clearance; at least {narrowest:g} (trace width plus copper clearance)")
+
+
+#: The cross-field checks, run in this order by :func:`_cross_checks`.
+CROSS_CHECKS: dict[str, Callable[[Spec], None]] = {
+    "arm_and_ground": _check_arm_and_ground,
+    "vias": _check_vias,
+    "meander": _check_meander,
+}

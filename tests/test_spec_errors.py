@@ -135,3 +135,39 @@ def test_infeasible_box_names_the_smallest_box_that_works() -> None:
 def test_valid_spec_is_accepted() -> None:
     spec = parse_spec(BASE)
     assert spec.name == "soil_probe_2g4" and spec.fab.name == "standard"
+
+
+TEMPLATE_868 = load_json(ROOT / "templates" / "srd-868-meander.json")
+
+
+def _box_hint_mm(message: str) -> float:
+    import re
+
+    found = re.search(r"a clearance area about (\d+) mm wide", message)
+    assert found, message
+    return float(found.group(1))
+
+
+def test_box_hint_comes_from_a_real_search_not_its_limit() -> None:
+    from footgen.sizing import WIDEST_BOX_MM, size
+
+    data = _set(_set(TEMPLATE_868, "clearance.width_mm", 26.0), "style", {"kind": "straight"})
+    with pytest.raises(SpecError) as err:
+        size(parse_spec(data), "tline")
+    width = _box_hint_mm(str(err.value))
+    assert width < WIDEST_BOX_MM and "at least as wide" in str(err.value)
+    # the hinted box works (its ground plane as wide as the hint says), one millimetre less does not
+    wide_ground = _set(data, "ground_plane.width_mm", width)
+    assert size(parse_spec(_set(wide_ground, "clearance.width_mm", width)), "tline").arm_length_mm > 0
+    with pytest.raises(SpecError, match="too small"):
+        size(parse_spec(_set(wide_ground, "clearance.width_mm", width - 1)), "tline")
+
+
+def test_clearance_wider_than_the_ground_plane_is_said() -> None:
+    from footgen.sizing import size
+
+    data = _set(_set(TEMPLATE_868, "clearance.width_mm", 60.0), "ground_plane.width_mm", 30.0)
+    with pytest.raises(SpecError) as err:
+        size(parse_spec(data), "tline")
+    assert "wider than the ground plane" in str(err.value) and "$.ground_plane.width_mm" in str(err.value)
+    assert "300" not in str(err.value)

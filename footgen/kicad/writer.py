@@ -45,6 +45,15 @@ class FootprintMeta:
     edit_stamp: str  # 8 hex digits; fixed per spec so output is byte-stable
 
 
+def kicad_text(text: str) -> str:
+    """``text`` ready for a quoted KiCad string through kiutils (which escapes only the double
+    quote): backslashes doubled; line breaks, tabs and other control characters refused (the
+    spec's schema keeps them out of every string that reaches the footprint)."""
+    if any(ord(ch) < 32 or ord(ch) == 127 for ch in text):
+        raise ValueError("control character in a string bound for a KiCad file")
+    return text.replace("\\", "\\\\")
+
+
 def _mm(value: float) -> float:
     return round(value, MM_DECIMALS) + 0.0
 
@@ -130,10 +139,10 @@ def _line(line: LineString, layer: str, width: float) -> list[FpLine]:
 def footprint(layout: Layout, meta: FootprintMeta) -> Footprint:
     """The kiutils footprint object for ``layout``."""
     fp = Footprint(version="20211014", generator="footgen", tedit=meta.edit_stamp)
-    fp.libId = meta.name
-    fp.description = meta.description
-    fp.tags = meta.tags
-    fp.properties = dict(meta.properties)
+    fp.libId = kicad_text(meta.name)
+    fp.description = kicad_text(meta.description)
+    fp.tags = kicad_text(meta.tags)
+    fp.properties = {kicad_text(key): kicad_text(value) for key, value in meta.properties}
     has_vias = bool(layout.vias)
     fp.attributes.type = "through_hole" if has_vias else "smd"
     fp.attributes.excludeFromBom = True
@@ -144,7 +153,7 @@ def footprint(layout: Layout, meta: FootprintMeta) -> Footprint:
     fx0, fy0, fx1, fy1 = layout.fab_outline.bounds
     fp.graphicItems = [
         FpText(type="reference", text="REF**", position=_pos(layout.feed_point[0], silk_y - 1.2), layer="F.SilkS", effects=_font()),
-        FpText(type="value", text=meta.name, position=_pos(0.5 * (fx0 + fx1), fy1 + 1.5), layer="F.Fab", effects=_font()),
+        FpText(type="value", text=kicad_text(meta.name), position=_pos(0.5 * (fx0 + fx1), fy1 + 1.5), layer="F.Fab", effects=_font()),
         FpText(type="user", text="${REFERENCE}", position=_pos(0.5 * (fx0 + fx1), 0.5 * (fy0 + fy1)), layer="F.Fab", effects=_font()),
         _outline(layout.fab_outline, "F.Fab", FAB_WIDTH_MM),
         _outline(layout.courtyard, "F.CrtYd", COURTYARD_WIDTH_MM),

@@ -35,6 +35,7 @@ from footgen.errors import SolverError
 from footgen.physics.board_edge import equivalent_laminate
 from footgen.physics.ifa import PrintedIfa
 from footgen.physics.mom import MIN_SEGMENT_TO_RADIUS, Slab, Wire, WireModel
+from footgen.physics.problem_size import check_model_size
 
 STRIP_EQUIVALENT_RADIUS_FACTOR = 0.25  # a = w / 4, Balanis 4th ed. ch. 9 (from memory)
 SEGMENTS_PER_WAVELENGTH = 40.0  # segment <= lambda / 40 (stricter than the lambda / 20 rule)
@@ -264,10 +265,13 @@ def ifa_wire_model(ifa: PrintedIfa, f_max_hz: float, with_ground: bool = True, w
         raise SolverError(f"f_max_hz = {f_max_hz!r}: must be a positive frequency")
     control = control or MeshControl(f_max_hz=f_max_hz)
     wires, detail = antenna_wires(ifa, control)
+    antenna_count = len(wires)
     if not with_loss:
         wires = [Wire(w.start_m, w.end_m, w.n_segments, w.radius_m) for w in wires]
     if with_ground:
         wires += ground_grid_wires(ifa, control, detail)
     lam = equivalent_laminate(ifa)  # the board edge beyond the antenna, as an equivalent slab
     slab = Slab(lam.eps_r, lam.thickness_m, lam.loss_tangent) if with_laminate else None
-    return WireModel(tuple(wires), source_wire=0, source_segment=0, slab=slab)
+    model = WireModel(tuple(wires), source_wire=0, source_segment=0, slab=slab)
+    check_model_size(model, antenna_wires=antenna_count)  # before any matrix is allocated
+    return model

@@ -26,12 +26,14 @@ EXIT_RULES = 1
 EXIT_INPUT = 2
 EXIT_OVERWRITE = 3
 EXIT_KICAD = 4
+EXIT_INTERNAL = 5
 EXIT_MEANINGS = {
     EXIT_OK: "ok",
     EXIT_RULES: "the rule check found errors (no footprint written)",
     EXIT_INPUT: "bad input (spec or option)",
     EXIT_OVERWRITE: "refused to overwrite a hand-edited file",
     EXIT_KICAD: "KiCad missing or failed",
+    EXIT_INTERNAL: "internal error in footgen (please report it with the spec)",
 }
 INSTALL_HELP = (
     "footgen was not found. Install it into a Python 3.10+ environment "

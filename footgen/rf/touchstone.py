@@ -74,10 +74,23 @@ def _fail(path: object, what: str, fix: str) -> MeasurementError:
     return MeasurementError(" ".join(line.split()))
 
 
+#: Largest measurement file read (bytes): a 100,001-point two-port sweep takes about 20 MB.
+MAX_TOUCHSTONE_BYTES = 32 * 2**20
+
+
 def _read_text(path: Path) -> str:
-    """File text as scikit-rf reads it (UTF-8 with BOM, else Latin-1)."""
+    """File text as scikit-rf reads it (UTF-8 with BOM, else Latin-1), at most
+    :data:`MAX_TOUCHSTONE_BYTES` (a larger file is refused without reading it whole)."""
+    too_large = _fail(
+        path, f"is larger than {MAX_TOUCHSTONE_BYTES // 2**20} MiB", "export the measured sweep alone (a VNA sweep is a few MB at most)"
+    )
     try:
-        raw = path.read_bytes()
+        if path.is_file() and path.stat().st_size > MAX_TOUCHSTONE_BYTES:
+            raise too_large
+        with open(path, "rb") as handle:
+            raw = handle.read(MAX_TOUCHSTONE_BYTES + 1)
+        if len(raw) > MAX_TOUCHSTONE_BYTES:
+            raise too_large
     except FileNotFoundError:
         raise _fail(path, "file not found", "check the path of the measurement file") from None
     except OSError as err:
