@@ -486,13 +486,6 @@ action.run_action(board)
 timer.Stop()
 pcbnew.SaveBoard(sys.argv[1], board)
 print(json.dumps(seen), flush=True)
-# This stand-alone interpreter segfaults in its final garbage collection once a wx.Image was
-# shown (the result dialog's drawing; without it, none).  Observed with KiCad 9.0.8 and
-# wxPython 4.2.0, cause not isolated; likely suspect: pcbnew registers wx's image handlers a
-# second time here ("Adding duplicate image handler").  KiCad's own interpreter is not torn
-# down this way, so the driver leaves without the final collection.
-import os
-os._exit(0)
 """
 
 
