@@ -47,7 +47,7 @@ def main() -> None:
 
     \b
     Example:
-      footgen new sensor-2g4 -o my_antenna.json
+      footgen new ism-2g4-straight -o my_antenna.json
       footgen build my_antenna.json -o build/
     """
 

@@ -28,7 +28,7 @@ if [ "$need_apt" = 1 ]; then
 fi
 
 # pcbnew and openEMS exist only for Debian's /usr/bin/python3, so the test venv is made from it.
-venv=${FOOTGEN_VENV:-$here/.venv}
+venv=${FOOTGEN_VENV:-$here/.venv-test}
 if [ ! -x "$venv/bin/python" ]; then
   echo "== creating $venv"
   /usr/bin/python3 -m venv --system-site-packages "$venv"

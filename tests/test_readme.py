@@ -3,6 +3,7 @@ printed in README, run command by command on the bundled (invented) measurement.
 
 from __future__ import annotations
 
+import os
 import re
 import shlex
 import shutil
@@ -24,8 +25,8 @@ def _code_block_after(heading: str) -> list[str]:
 
 def test_quick_start_is_two_commands_and_ci_runs_the_second() -> None:
     lines = _code_block_after("## Quick start")
-    assert len(lines) == 2
-    assert "footgen build examples/" in lines[0]
+    assert lines == ["bash scripts/quickstart.sh", "bash scripts/test.sh"]
+    assert "footgen\" build \"$spec\"" in (ROOT / "scripts" / "quickstart.sh").read_text("utf-8")
     ci = (ROOT / ".ci" / "run").read_text("utf-8")
     assert lines[1] in ci
     assert README.lstrip().startswith("# footgen\n\nfootgen turns")  # the job paragraph comes first
@@ -45,3 +46,20 @@ def test_readme_loop_runs_as_printed(tmp_path: Path) -> None:
     assert (tmp_path / "r1-r2.svg").is_file()
     report = next((tmp_path / "report-r2").glob("*.report.md")).read_text("utf-8")
     assert "revision 2" in report and "RF-exposure" in report
+
+
+def test_quick_start_line_one_builds_the_example_in_a_fresh_venv(tmp_path: Path) -> None:
+    """README's first Quick-start line, run as printed in a clean copy of the checkout: it makes
+    its own venv from the system Python (no system site packages), installs footgen from the
+    copy and builds the bundled example."""
+    checkout = tmp_path / "footgen"
+    shutil.copytree(ROOT, checkout, ignore=shutil.ignore_patterns(".git", ".venv*", "build", "dist", "*.egg-info", "__pycache__"))
+    proc = subprocess.run(["bash", "scripts/quickstart.sh"], cwd=checkout, capture_output=True, text=True, timeout=1200,
+                          env={k: v for k, v in os.environ.items() if k not in ("VIRTUAL_ENV", "PYTHONPATH")})
+    assert proc.returncode == 0, proc.stderr[-3000:]
+    assert (checkout / ".venv" / "bin" / "footgen").is_file()
+    assert not (checkout / ".venv" / "pyvenv.cfg").read_text("utf-8").count("include-system-site-packages = true")
+    built = sorted(p.relative_to(checkout / "build").as_posix() for p in (checkout / "build").rglob("*") if p.is_file())
+    assert "soil_probe.pretty/soil_probe_2g4.kicad_mod" in built, built
+    golden = (ROOT / "tests" / "golden" / "soil-probe-2g4.kicad_mod").read_bytes()
+    assert (checkout / "build" / "soil_probe.pretty" / "soil_probe_2g4.kicad_mod").read_bytes() == golden
