@@ -379,7 +379,12 @@ def test_missing_footgen_command_explains_how_to_install(monkeypatch: pytest.Mon
     monkeypatch.setattr(cli_runner, "USER_BIN_DIRS", (tmp_path,))
     with pytest.raises(cli_runner.FootgenNotFound) as info:
         cli_runner.find_footgen()
-    assert "pip install" in str(info.value) and cli_runner.FOOTGEN_CMD_ENV in str(info.value)
+    text = str(info.value)
+    # footgen is on no package index: the help names pipx or the checkout's venv script, and
+    # where in KiCad the command's path is set
+    assert "pipx install <footgen checkout>" in text and "scripts/quickstart.sh" in text
+    assert "pip install footgen" not in text
+    assert f"{cli_runner.FOOTGEN_CMD_ENV} to the full command" in text and "Configure Paths" in text
 
 
 def test_a_footgen_command_that_does_not_exist_is_reported(monkeypatch: pytest.MonkeyPatch, tmp_path: Path) -> None:

@@ -34,10 +34,12 @@ EXIT_MEANINGS = {
     EXIT_KICAD: "KiCad missing or failed",
 }
 INSTALL_HELP = (
-    "footgen was not found. Install it into a Python 3.10+ environment "
-    "(pip install footgen, or pip install -e <footgen checkout>) so that the `footgen` command "
-    f"is on PATH, or set the environment variable {FOOTGEN_CMD_ENV} to the full command "
-    "(e.g. /home/me/venv/bin/footgen) before starting KiCad."
+    "footgen was not found. Install it into its own Python 3.10+ environment (system Pythons "
+    "refuse pip outside one): `pipx install <footgen checkout>`, or in the checkout run "
+    "`bash scripts/quickstart.sh` (makes .venv). Then set the environment variable "
+    f"{FOOTGEN_CMD_ENV} to the full command (e.g. /home/me/footgen/.venv/bin/footgen) in KiCad: "
+    "Preferences > Configure Paths > Environment Variables, and restart the PCB editor. "
+    "Without it the plugin tries `footgen` on PATH and ~/.local/bin/footgen."
 )
 #: Where a user-level install puts the command when PATH (as KiCad sees it) lacks it.
 USER_BIN_DIRS = (Path.home() / ".local" / "bin",)
