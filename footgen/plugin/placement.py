@@ -507,6 +507,7 @@ def main(argv: list[str]) -> int:
     parser.add_argument("--gnd-net", default=DEFAULT_GND_NET)
     parser.add_argument("--sites", action="store_true", help="Print the places along the outline where the spec's clearance area fits (JSON) and exit.")
     parser.add_argument("--site", type=int, metavar="N", help="Place a new instance at proposal N (0 = nearest the focus); the adapted spec goes to <project>/footgen/.")
+    parser.add_argument("--site-json", help="Place a new instance at this site (one of --sites' answers, as JSON).")
     parser.add_argument("--focus", nargs=2, type=float, metavar=("X_MM", "Y_MM"), help="Sort proposals by distance from this point (default: board centre).")
     parser.add_argument("--force", action="store_true")
     parser.add_argument("--allow-violations", action="store_true")
@@ -522,7 +523,9 @@ def main(argv: list[str]) -> int:
     placement = Placement(tuple(args.at), args.rotation, args.reference or DEFAULT_REFERENCE) if args.at else None
     spec_path, site = args.spec, None
     try:
-        if args.sites or args.site is not None:
+        if args.site_json:
+            site = json.loads(args.site_json)
+        elif args.sites or args.site is not None:
             from .board_view import propose
 
             spec = cli_runner.read_spec(spec_path)
