@@ -17,6 +17,7 @@ import signal
 import subprocess
 import sys
 import time
+import zipfile
 from pathlib import Path
 
 import pytest
@@ -156,9 +157,15 @@ def _wait_for_api(tmp: Path, pcb: subprocess.Popen):
     pytest.fail(f"KiCad's API server did not answer within {KICAD_READY_S} s (socket {_socket(tmp) or 'none'})")
 
 
-def _door(editor: dict) -> dict:
+def _door(editor: dict, entry: Path | None = None) -> dict:
+    """Run the door from footgen's source tree, or as KiCad starts it: ``entry``, the
+    entry-point script in a folder extracted from the IPC archive (no footgen on the path)."""
     env = dict(editor["env"], KICAD_API_SOCKET=editor["socket"], FOOTGEN_CMD=shlex.join(footgen_cmd()), FOOTGEN_KICAD_PYTHON=kicad_python(), PYTHONPATH=str(ROOT))
-    proc = subprocess.run([sys.executable, "-m", "footgen.plugin.ipc_door"], capture_output=True, text=True, env=env, timeout=DOOR_TIMEOUT_S)
+    argv = [sys.executable, "-m", "footgen.plugin.ipc_door"]
+    if entry is not None:
+        env.pop("PYTHONPATH")
+        argv = [sys.executable, str(entry)]
+    proc = subprocess.run(argv, capture_output=True, text=True, env=env, timeout=DOOR_TIMEOUT_S, cwd=editor["tmp"])
     assert proc.returncode == 0, proc.stderr[-3000:]
     return json.loads(proc.stdout.strip().splitlines()[-1])
 
@@ -169,13 +176,31 @@ def _screenshot(editor: dict, name: str) -> Path:
     return path
 
 
+def _installed_ipc_plugin(tmp: Path) -> Path:
+    """The IPC archive's plugins/ folder extracted where KiCad's plugin manager puts it
+    (identifier with dots as underscores; from memory); its action's entry point."""
+    dist = tmp / "dist"
+    subprocess.run([sys.executable, str(ROOT / "scripts" / "build_plugin.py"), "-o", str(dist)], check=True, capture_output=True, timeout=300)
+    (archive,) = dist.glob("footgen-kicad-ipc-plugin-*.zip")
+    with zipfile.ZipFile(archive) as zf:
+        identifier = json.loads(zf.read("metadata.json"))["identifier"]
+        target = tmp / "3rdparty" / "plugins" / identifier.replace(".", "_")
+        for name in zf.namelist():
+            if name.startswith("plugins/"):
+                dest = target / name[len("plugins/"):]
+                dest.parent.mkdir(parents=True, exist_ok=True)
+                dest.write_bytes(zf.read(name))
+    (action,) = json.loads((target / "plugin.json").read_text("utf-8"))["actions"]
+    return target / action["entrypoint"]
+
+
 @pytest.fixture(scope="module")
 def placed(editor: dict) -> dict:
     first = _door(editor)
     shot = _screenshot(editor, "ipc-placed.png")
     board = editor["kicad"].get_board()
     footprints = [(fp.reference_field.text.value, str(fp.definition.id), fp.position.x, fp.position.y, fp.orientation.degrees) for fp in board.get_footprints()]
-    second = _door(editor)
+    second = _door(editor, _installed_ipc_plugin(editor["tmp"]))
     board = editor["kicad"].get_board()
     after = [(fp.reference_field.text.value, str(fp.definition.id), fp.position.x, fp.position.y, fp.orientation.degrees) for fp in board.get_footprints()]
     return {"first": first, "second": second, "footprints": footprints, "after": after, "board": board, "shot": shot}
@@ -196,6 +221,7 @@ def test_the_door_places_at_the_proposed_site_in_the_running_editor(placed: dict
 
 @pytest.mark.kicad
 def test_the_door_regenerates_in_place_and_the_editor_keeps_answering(placed: dict) -> None:
+    """The second run is the door installed from the IPC archive, started as KiCad starts it."""
     assert placed["second"]["replaced"] is True
     assert placed["after"] == placed["footprints"]
     board = placed["board"]
