@@ -475,11 +475,30 @@ seen = []
 # a native message box cannot be closed by the timer: record the text instead
 action._message = lambda text, caption="", error=False: seen.append({{"title": "message", "texts": [text], "bitmaps": 0}})
 
+def shoot(window, path):
+    # the dialog as the screen shows it (a PNG beside the test's files)
+    window.Raise()
+    for _ in range(10):  # let the window manager-less X server paint it
+        window.Update()
+        wx.SafeYield()
+        wx.MilliSleep(50)
+    x, y = window.GetScreenPosition()
+    w, h = window.GetSize()
+    bmp = wx.Bitmap(w, h)
+    mem = wx.MemoryDC(bmp)
+    mem.Blit(0, 0, w, h, wx.ScreenDC(), x, y)
+    mem.SelectObject(wx.NullBitmap)
+    bmp.SaveFile(path, wx.BITMAP_TYPE_PNG)
+
 def press_ok(_event):
     for window in wx.GetTopLevelWindows():
         if isinstance(window, wx.Dialog) and window.IsModal():
             texts = [c.GetValue() for c in window.GetChildren() if isinstance(c, wx.TextCtrl)]
-            seen.append({{"title": window.GetTitle(), "texts": texts,
+            choices = [c.GetStringSelection() for c in window.GetChildren() if isinstance(c, wx.Choice)]
+            labels = [c.GetLabel() for c in window.GetChildren() if isinstance(c, wx.StaticText)]
+            shot = f"{{sys.argv[2]}}/dialog-{{len(seen) + 1}}.png"
+            shoot(window, shot)
+            seen.append({{"title": window.GetTitle(), "texts": texts, "choices": choices, "labels": labels, "shot": shot,
                          "bitmaps": sum(isinstance(c, wx.StaticBitmap) for c in window.GetChildren())}})
             window.EndModal(wx.ID_OK)
 
@@ -517,7 +536,7 @@ def test_the_action_regenerates_through_its_dialogs(placed: dict, tmp_path: Path
     driver.write_text(RUN_ACTION_HEADLESS, "utf-8")
     for _attempt in range(XVFB_ATTEMPTS):
         proc = subprocess.Popen(
-            ["xvfb-run", "-a", "-s", "-screen 0 1280x1024x24", kicad_python(), str(driver), str(board)],
+            ["xvfb-run", "-a", "-s", "-screen 0 1280x1024x24", kicad_python(), str(driver), str(board), str(tmp_path)],
             stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, env=_env(tmp_path), start_new_session=True,
         )
         try:
@@ -535,7 +554,14 @@ def test_the_action_regenerates_through_its_dialogs(placed: dict, tmp_path: Path
     assert [d["title"] for d in seen] == ["footgen: printed IFA antenna", "footgen: printed IFA antenna: result"]
     form = seen[0]["texts"]
     assert "ifa_r0" in form and "AE5" in form and "100" in form  # name, reference, feed point
-    assert seen[1]["bitmaps"] == 1
+    # band by its name, nets picked from the board's nets, the instance regenerated in place
+    assert "2.4 GHz ISM (2400-2483.5 MHz)" in seen[0]["choices"]
+    assert "RF_ANT" in seen[0]["choices"] and "GND" in seen[0]["choices"]
+    assert seen[1]["bitmaps"] == 2  # the copper drawing and the predicted S11
+    result = "\n".join(seen[1]["labels"])
+    assert "rule check passed" in result and "never replace measurement" in result
+    for shot in (seen[0]["shot"], seen[1]["shot"]):  # screenshots kept in the test's folder
+        assert Path(shot).read_bytes()[:8] == b"\x89PNG\r\n\x1a\n" and Path(shot).parent == tmp_path
     (after,) = _describe(board, tmp_path)
     for key in ("position_mm", "rotation_deg", "reference", "pad_nets", "fpid"):
         assert after[key] == before[key], key

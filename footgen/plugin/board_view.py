@@ -125,3 +125,34 @@ def size_args(spec: dict) -> list[str]:
 def propose(board, spec: dict, gnd_net: str, *, rf_net: str | None = None, focus_mm=None, cmd=None) -> list[dict]:
     """The core's sites for ``spec``'s clearance area on ``board``, nearest the focus first."""
     return ask_core(board_view(board, gnd_net, rf_net=rf_net, focus_mm=focus_mm), size_args(spec), cmd)["sites"]
+
+
+def board_rules(board) -> dict:
+    """Board Setup values (mm) that bound a footprint's fab limits, keyed as
+    :data:`.placement.BOARD_RULES`; the copper clearance is the larger of the board minimum
+    and the Default net class clearance."""
+    settings = board.GetDesignSettings()
+    clearance = _mm(settings.m_MinClearance)
+    try:
+        clearance = max(clearance, _mm(settings.m_NetSettings.GetDefaultNetclass().GetClearance()))
+    except (AttributeError, TypeError):  # net class API differs between KiCad versions
+        pass
+    return {
+        "copper_clearance_mm": clearance,
+        "hole_clearance_mm": _mm(settings.m_HoleClearance),
+        "track_width_mm": _mm(settings.m_TrackMinWidth),
+        "edge_clearance_mm": _mm(settings.m_CopperEdgeClearance),
+        "min_drill_mm": _mm(settings.m_MinThroughDrill),
+        "hole_to_hole_mm": _mm(settings.m_HoleToHoleMin),
+        "annular_ring_mm": _mm(settings.m_ViasMinAnnularWidth),
+    }
+
+
+def focus_of_selection(board) -> tuple[float, float] | None:
+    """Centre of the selected footprints, tracks and drawings (None: nothing selected)."""
+    boxes = [item.GetBoundingBox() for group in (board.GetFootprints(), board.GetTracks(), board.GetDrawings()) for item in group if item.IsSelected()]
+    if not boxes:
+        return None
+    xs = [b.GetLeft() for b in boxes] + [b.GetRight() for b in boxes]
+    ys = [b.GetTop() for b in boxes] + [b.GetBottom() for b in boxes]
+    return ((_mm(min(xs)) + _mm(max(xs))) / 2, (_mm(min(ys)) + _mm(max(ys))) / 2)

@@ -179,6 +179,17 @@ def build(spec_path: Path, out_dir: Path, cmd: list[str] | None = None, *, force
     return BuildResult(proc.returncode, Path(out_dir), name, str(spec.get("library", DEFAULT_LIBRARY)), proc.stdout, proc.stderr, check)
 
 
+def predict_plot(spec_path: Path, plot_path: Path, cmd: list[str] | None = None) -> Path:
+    """The predicted S11 plot (``footgen predict SPEC --plot FILE``; the calibrated prediction
+    when the spec carries a measurement calibration); returns the PNG."""
+    plot_path = Path(plot_path)
+    argv = (cmd or find_footgen()) + ["predict", str(spec_path), "--plot", str(plot_path.with_suffix(".png")), "--force"]
+    proc = _run(argv)
+    if proc.returncode != EXIT_OK:
+        raise FootgenFailed(f"footgen predict failed: {_last_error(proc)}", proc.returncode, proc.stderr)
+    return plot_path.with_suffix(".png")
+
+
 # --- spec files ------------------------------------------------------------------------------
 
 def read_spec(spec_path: Path) -> dict:

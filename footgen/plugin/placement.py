@@ -216,6 +216,48 @@ def stackup_laminate(board_text: str) -> dict | None:
     return out
 
 
+# --- the board's design rules against the footprint's fab limits (no pcbnew) ----------------
+
+#: Board Setup value (mm) -> (the spec's fab limit it bounds, what KiCad calls it).
+BOARD_RULES = {
+    "copper_clearance_mm": ("min_clearance_mm", "copper clearance"),
+    "hole_clearance_mm": ("min_clearance_mm", "copper to hole clearance"),
+    "track_width_mm": ("min_trace_mm", "minimum track width"),
+    "edge_clearance_mm": ("min_copper_to_edge_mm", "copper to edge clearance"),
+    "min_drill_mm": ("min_drill_mm", "minimum through hole"),
+    "hole_to_hole_mm": ("min_hole_to_hole_mm", "hole to hole clearance"),
+    "annular_ring_mm": ("min_annular_ring_mm", "minimum annular width"),
+}
+#: Board and fab values closer than this are equal (mm): both are typed to 1 um.
+RULE_TOL_MM = 1e-4
+
+
+def rules_warnings(board_rules: dict, fab: dict) -> list[str]:
+    """One line for every Board Setup rule stricter than the fab limit the footprint was built
+    to (``fab``: the resolved limits a build reports in its check JSON)."""
+    out = []
+    for key, (field_name, label) in BOARD_RULES.items():
+        board_mm, fab_mm = board_rules.get(key), fab.get(field_name)
+        if board_mm is None or fab_mm is None or board_mm <= fab_mm + RULE_TOL_MM:
+            continue
+        out.append(f"the board's {label} is {board_mm:g} mm, the footprint was built to fab.{field_name} {fab_mm:g} mm: "
+                   "KiCad's DRC may flag it; build with the board's rules as fab limits")
+    return out
+
+
+def fab_from_board(spec: dict, board_rules: dict) -> dict:
+    """A copy of ``spec`` whose fab limits are the board's rules (the strictest rule for each
+    limit several rules bound); rules the board leaves at 0 change nothing."""
+    limits: dict[str, float] = {}
+    for key, (field_name, _label) in BOARD_RULES.items():
+        value = board_rules.get(key) or 0.0
+        if value > 0.0:
+            limits[field_name] = max(value, limits.get(field_name, 0.0))
+    out = json.loads(json.dumps(spec))
+    out.setdefault("fab", {"profile": "standard"}).update(limits)
+    return out
+
+
 # --- board work (pcbnew) ---------------------------------------------------------------------
 
 def _to_mm(value: int) -> float:
