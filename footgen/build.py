@@ -7,15 +7,21 @@ from __future__ import annotations
 
 import json
 from dataclasses import dataclass
+from functools import cached_property
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from footgen import __version__
 from footgen.geometry.layout import Layout, Sizing, build_layout
-from footgen.kicad.writer import FootprintMeta, render
+from footgen.errors import FootgenError, SpecError
+from footgen.geometry.matching_pads import assembly_lines
 from footgen.outputs import write_outputs
 from footgen.rules import Violation, check, report_dict
 from footgen.sizing import size
 from footgen.spec import Spec, load_spec
+
+if TYPE_CHECKING:
+    from footgen.kicad.writer import FootprintMeta
 
 SAFETY_NOTE = (
     "footgen's dimensions and predictions are estimates: they never replace measurement of the "
@@ -30,7 +36,13 @@ class BuildResult:
     sizing: Sizing
     layout: Layout
     violations: tuple[Violation, ...]
-    footprint_text: str
+
+    @cached_property
+    def footprint_text(self) -> str:
+        """The .kicad_mod text (rendered on first use: `check` never needs it)."""
+        from footgen.kicad.writer import render
+
+        return render(self.layout, footprint_meta(self.spec))
 
     @property
     def ok(self) -> bool:
@@ -42,6 +54,8 @@ class BuildResult:
 
 
 def footprint_meta(spec: Spec) -> FootprintMeta:
+    from footgen.kicad.writer import FootprintMeta
+
     band = f"{spec.target.low_hz / 1e6:g}-{spec.target.high_hz / 1e6:g} MHz"
     style = "meandered inverted-F antenna" if spec.style.kind == "meandered" else "inverted-F antenna"
     description = f"Printed {style}, {band}, eps_r {spec.laminate.eps_r:g}, {spec.laminate.thickness_mm:g} mm laminate"
@@ -62,11 +76,21 @@ def footprint_meta(spec: Spec) -> FootprintMeta:
 
 
 def run(spec: Spec) -> BuildResult:
-    """Size, lay out, check and render one spec (no I/O)."""
+    """Size, lay out and check one spec (no I/O); the footprint text is rendered when first read."""
     sizing = size(spec)
     layout = build_layout(spec, sizing)
     violations = tuple(check(layout, spec.fab))
-    return BuildResult(spec, sizing, layout, violations, render(layout, footprint_meta(spec)))
+    return BuildResult(spec, sizing, layout, violations)
+
+
+def calibration_text(spec: Spec) -> str:
+    """The one line on the calibration the revision holds (applied by predict, match, report)."""
+    from footgen.calibration import of_spec
+
+    cal = of_spec(spec.raw)
+    if cal is None:
+        return "Predictions use the bare model: this revision holds no calibration (retune from a measurement records one)."
+    return f"Predictions of this revision are {cal.line()}."
 
 
 def report_markdown(result: BuildResult) -> str:
@@ -94,6 +118,9 @@ def report_markdown(result: BuildResult) -> str:
         "",
     ]
     lines += [f"- {note}" for note in sizing.notes]
+    lines += ["", calibration_text(spec)]
+    pads = assembly_lines(spec.raw.get("matching_network"))
+    lines += [""] + pads if pads else []
     lines += ["", f"## Rule check against fab profile `{spec.fab.name}`", ""]
     if result.violations:
         lines += [f"- {v.line()}" for v in result.violations]
@@ -105,18 +132,18 @@ def report_markdown(result: BuildResult) -> str:
 
 def output_files(result: BuildResult, *, include_footprint: bool) -> dict[str, bytes]:
     """The files of a build, relative to the output folder."""
-    from footgen.draw import render_svg_png  # matplotlib is slow to import: only when drawing
+    from footgen.draw import drawing
 
     spec = result.spec
     subtitle = f"{spec.target.low_hz / 1e6:g}-{spec.target.high_hz / 1e6:g} MHz, {spec.style.kind}, revision {spec.revision}"
-    svg, png = render_svg_png(result.layout, spec.name, subtitle)
+    canvas = drawing(result.layout, spec.name, subtitle, result.violations)
     files = {
         f"{spec.name}.report.md": report_markdown(result).encode("utf-8"),
         f"{spec.name}.check.json": (json.dumps(report_dict(list(result.violations), spec.fab), indent=2, sort_keys=True) + "\n").encode("utf-8"),
-        f"{spec.name}.svg": svg,
+        f"{spec.name}.svg": canvas.svg(),
     }
-    if spec.output.drawing_png:
-        files[f"{spec.name}.png"] = png
+    if spec.output.drawing_png:  # the PNG is rasterised only when asked for
+        files[f"{spec.name}.png"] = canvas.png()
     if include_footprint:
         files[result.footprint_relpath] = result.footprint_text.encode("utf-8")
     return files
@@ -132,3 +159,25 @@ def write_build(result: BuildResult, out_dir: Path, *, force: bool = False, allo
 def build_spec_file(spec_path: Path, out_dir: Path, *, force: bool = False, allow_violations: bool = False) -> tuple[BuildResult, list[Path]]:
     result = run(load_spec(spec_path))
     return result, write_build(result, out_dir, force=force, allow_violations=allow_violations)
+
+
+def build_spec_files(spec_paths: list[Path], out_dir: Path, *, force: bool = False,
+                     allow_violations: bool = False) -> list[tuple[BuildResult, list[Path]]]:
+    """Build several specs into one folder in one process.  Every spec is loaded, sized and
+    checked before anything is written, so bad input in any of them leaves the disk untouched;
+    an error names the spec file it came from."""
+    results: list[BuildResult] = []
+    names: dict[str, Path] = {}
+    for path in spec_paths:
+        try:
+            result = run(load_spec(path))
+        except FootgenError as exc:
+            if len(spec_paths) > 1:
+                exc.args = (f"{path}: {exc}",)
+            raise
+        earlier = names.setdefault(result.spec.name, path)
+        if earlier != path:
+            raise SpecError("$.name", result.spec.name, f"{path} and {earlier} share this name; "
+                            "give each spec its own name or build them into separate folders")
+        results.append(result)
+    return [(r, write_build(r, out_dir, force=force, allow_violations=allow_violations)) for r in results]

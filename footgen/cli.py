@@ -93,28 +93,32 @@ def validate_cmd(spec: Path) -> None:
 
 
 @main.command("build")
-@click.argument("spec", type=click.Path(path_type=Path))
+@click.argument("specs", nargs=-1, required=True, type=click.Path(path_type=Path))
 @click.option("-o", "--out", "out_dir", required=True, type=click.Path(file_okay=False, path_type=Path), help="Output folder.")
 @click.option("--force", is_flag=True, help="Replace files even if they were edited by hand.")
 @click.option("--allow-violations", is_flag=True, help="Write the footprint even when the rule check finds errors.")
-def build_cmd(spec: Path, out_dir: Path, force: bool, allow_violations: bool) -> None:
-    """Size, lay out and check SPEC; write OUT/<library>.pretty/<name>.kicad_mod, the report,
-    the rule-check JSON and the copper drawing (SVG, PNG) beside it.
+def build_cmd(specs: tuple[Path, ...], out_dir: Path, force: bool, allow_violations: bool) -> None:
+    """Size, lay out and check each SPEC; write OUT/<library>.pretty/<name>.kicad_mod, the report,
+    the rule-check JSON and the copper drawing (SVG, PNG) beside it.  Several specs are built
+    in one run; bad input in any of them writes nothing.
 
-    Exits 1 (and writes no footprint) when the rule check finds errors.
+    Exits 1 (and writes no footprint for that spec) when the rule check finds errors.
 
     \b
     Example:
       footgen build examples/soil-probe-2g4.json -o build/
+      footgen build examples/*.json -o build/
     """
-    from footgen.build import build_spec_file
+    from footgen.build import build_spec_files
 
-    result, written = build_spec_file(spec, out_dir, force=force, allow_violations=allow_violations)
-    for path in written:
-        click.echo(f"wrote {path}")
-    for v in result.violations:
-        click.echo(v.line(), err=True)
-    if not result.ok:
+    failed = False
+    for result, written in build_spec_files(list(specs), out_dir, force=force, allow_violations=allow_violations):
+        for path in written:
+            click.echo(f"wrote {path}")
+        for v in result.violations:
+            click.echo(f"{result.spec.name}: {v.line()}" if len(specs) > 1 else v.line(), err=True)
+        failed = failed or not result.ok
+    if failed:
         sys.exit(EXIT_RULES)
 
 
@@ -155,7 +159,7 @@ def draw_cmd(spec: Path, output: Path, force: bool) -> None:
       footgen draw examples/soil-probe-2g4.json -o antenna.svg
     """
     from footgen.build import run
-    from footgen.draw import render_svg_png
+    from footgen.draw import drawing
     from footgen.outputs import write_outputs
     from footgen.spec import load_spec
 
@@ -163,8 +167,8 @@ def draw_cmd(spec: Path, output: Path, force: bool) -> None:
     if suffix not in (".svg", ".png"):
         raise click.BadParameter(f"{output}: use a .svg or .png file name", param_hint="--output")
     result = run(load_spec(spec))
-    svg, png = render_svg_png(result.layout, result.spec.name, result.spec.target.label)
-    write_outputs(output.parent, {output.name: svg if suffix == ".svg" else png}, force=force)
+    canvas = drawing(result.layout, result.spec.name, result.spec.target.label, result.violations)
+    write_outputs(output.parent, {output.name: canvas.svg() if suffix == ".svg" else canvas.png()}, force=force)
     click.echo(f"wrote {output}")
 
 
@@ -173,8 +177,12 @@ def draw_cmd(spec: Path, output: Path, force: bool) -> None:
 @click.option("--s1p", "s1p", type=click.Path(dir_okay=False, path_type=Path), help="Write the predicted S11 as Touchstone (.s1p).")
 @click.option("--plot", "plot", type=click.Path(dir_okay=False, path_type=Path), help="Write the S11 plot: FILE.png and FILE.svg.")
 @click.option("--model", default=None, help="Response model: mom (default) or tline (fast, rough).")
+@click.option("--json", "json_path", type=click.Path(dir_okay=False, path_type=Path),
+              help="Write the summary figures as JSON (resonance, S11, band, efficiency, gain).")
 @click.option("--force", is_flag=True, help="Replace files edited by hand.")
-def predict_cmd(spec: Path, s1p: Path | None, plot: Path | None, model: str | None, force: bool) -> None:
+@click.option("--uncalibrated", is_flag=True, help="Show the bare model: leave out the calibration the revision holds.")
+def predict_cmd(spec: Path, s1p: Path | None, plot: Path | None, model: str | None, json_path: Path | None,
+                force: bool, uncalibrated: bool) -> None:
     """Predict the built antenna's input impedance and S11 around the band: resonance, Zin at
     the band centre, min S11, the -10 dB band and bandwidth.
 
@@ -192,12 +200,14 @@ def predict_cmd(spec: Path, s1p: Path | None, plot: Path | None, model: str | No
         raise click.BadParameter(f"{name!r}: choose one of {', '.join(MODELS)}", param_hint="--model")
     loaded = load_spec(spec)
     click.echo("sizing and sweeping ...", err=True)
-    prediction = predict_spec(loaded, model=name, progress=_progress_printer("sweep"))
+    prediction = predict_spec(loaded, model=name, calibrate=not uncalibrated, progress=_progress_printer("sweep"), radiation=True)
     for line in prediction.summary_lines():
         click.echo(line)
     files: dict[Path, bytes] = {}
     if s1p is not None:
         files[s1p] = touchstone_text(prediction)
+    if json_path is not None:
+        files[json_path] = prediction.json_bytes()
     if plot is not None:
         svg, png = plot_s11(prediction)
         files[plot.with_suffix(".png")] = png
@@ -218,6 +228,37 @@ def _progress_printer(what: str):
             click.echo(f"  {what} {done}/{total}", err=True)
 
     return progress
+
+
+@main.command("pattern")
+@click.argument("spec", type=click.Path(path_type=Path))
+@click.option("-o", "--out", "out", required=True, type=click.Path(dir_okay=False, path_type=Path),
+              help="File stem: writes STEM-cuts.png/.svg, STEM-3d.png/.svg and STEM.csv.")
+@click.option("--freq-mhz", type=float, default=None, help="Frequency in MHz (default: the band centre).")
+@click.option("--force", is_flag=True, help="Replace files edited by hand.")
+def pattern_cmd(spec: Path, out: Path, freq_mhz: float | None, force: bool) -> None:
+    """Radiation pattern of the built antenna from the MoM currents: the three principal cuts and
+    a 3-D view of the realised gain (dBi), and the far field as CSV.
+
+    \b
+    Example:
+      footgen pattern examples/soil-probe-2g4.json -o soil-pattern
+    """
+    from footgen.outputs import write_outputs
+    from footgen.radiation import RadiationSummary, pattern_files, spec_pattern
+    from footgen.spec import load_spec
+
+    if freq_mhz is not None and not (freq_mhz > 0.0):
+        raise click.BadParameter(f"{freq_mhz!r}: give a positive frequency in MHz", param_hint="--freq-mhz")
+    loaded = load_spec(spec)
+    click.echo("sizing and solving ...", err=True)
+    pattern = spec_pattern(loaded, None if freq_mhz is None else freq_mhz * 1e6)
+    for line in RadiationSummary.of(pattern).lines():
+        click.echo(line)
+    files = pattern_files(pattern, out.name, loaded.name)
+    write_outputs(out.parent, files, force=force)
+    for name in sorted(files):
+        click.echo(f"wrote {out.parent / name}")
 
 
 @main.command("testboard")

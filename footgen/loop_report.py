@@ -17,17 +17,17 @@ import numpy as np
 from footgen import sizing
 from footgen.build import SAFETY_NOTE
 from footgen.geometry.layout import Layout, Sizing, build_layout
+from footgen.geometry.matching_pads import assembly_lines
 from footgen.outputs import write_outputs
-from footgen.rf import matching, touchstone
+from footgen.calibration import Calibration
+from footgen.rf import match_plan, matching, touchstone
+from footgen.rf.parts import DEFAULT_PACKAGE
 from footgen.rf.touchstone import Measurement
 from footgen.errors import MeasurementError
 from footgen.rules import Violation, check
 from footgen.spec import Spec
 
 Z0_OHM = 50.0
-#: Predicted sweep without a measurement: band centre +- this fraction (dimensionless).
-PREDICTED_SPAN = 0.25
-PREDICTED_POINTS = 241
 #: Constant-resistance circles and constant-reactance arcs drawn on the Smith chart.
 SMITH_R = (0.0, 0.2, 0.5, 1.0, 2.0, 5.0)
 SMITH_X = (0.2, 0.5, 1.0, 2.0, 5.0)
@@ -77,11 +77,27 @@ def _smith_axes(ax) -> None:
             px, py = np.where(inside, px, np.nan), np.where(inside, py, np.nan)
             ax.plot(px, py, color="#a0aec0", lw=0.5)
     ax.plot([-1.0, 1.0], [0.0, 0.0], color="#a0aec0", lw=0.5)
-    ax.set_xlim(-1.05, 1.05)
-    ax.set_ylim(-1.05, 1.05)
+    _smith_labels(ax)
+    ax.set_xlim(-1.2, 1.2)
+    ax.set_ylim(-1.2, 1.2)
     ax.set_aspect("equal")
     ax.set_xticks([])
     ax.set_yticks([])
+
+
+def _smith_labels(ax) -> None:
+    """Values on the chart, normalised to Z0: each resistance circle where it crosses the real
+    axis, each reactance arc where it meets the outer circle (+jx above, -jx below)."""
+    style = dict(fontsize=6.5, color="#4a5568", ha="center", va="center")
+    for r in SMITH_R[1:]:
+        g = float(gamma_from_z(r).real)
+        ax.text(g, 0.0, f"{r:g}", rotation=90, bbox=dict(boxstyle="square,pad=0.1", fc="white", ec="none"), **style)
+    for x in SMITH_X:
+        for sign in (1.0, -1.0):
+            g = complex(gamma_from_z(complex(0.0, sign * x)))
+            ax.text(1.09 * g.real, 1.09 * g.imag, f"{'+' if sign > 0 else '-'}j{x:g}", **style)
+    ax.text(-1.09, 0.0, "0", **style)
+    ax.text(1.09, 0.0, "inf", **style)
 
 
 # --------------------------------------------------------------------------------- content
@@ -96,65 +112,72 @@ class ReportData:
     sizing: Sizing
     layout: Layout
     violations: tuple[Violation, ...]
-    freq_hz: np.ndarray
-    predicted_s11: np.ndarray
+    freq_hz: np.ndarray  # the prediction sweep of the bare model
+    predicted_s11: np.ndarray  # the bare model
     measured: Measurement | None
-    plan: matching.MatchPlan
-    matched_on: str  # "measured", "corrected prediction" or "predicted"
-    corrected_s11: np.ndarray | None = None  # the prediction carried over by a calibration
-    calibration: object | None = None  # footgen.retune.Calibration of the previous revision
+    plan: match_plan.MatchPlan
+    matched_on: str  # "measured", "calibrated prediction" or "predicted"
+    corrected_s11: np.ndarray | None = None  # the calibrated prediction, on corrected_freq_hz
+    calibration: Calibration | None = None
+    corrected_freq_hz: np.ndarray | None = None
+    calibration_line: str = ""
+    radiation: object | None = None  # footgen.radiation.RadiationSummary at f0 (MoM models only)
 
 
-def _sweep(spec: Spec, measurement: Measurement | None) -> np.ndarray:
-    """Frequencies of the prediction: across the measured sweep if any (at most
-    PREDICTED_POINTS, since a MoM prediction costs per point), else the band centre +- 25 %."""
-    if measurement is not None:
-        f = np.asarray(measurement.freq_hz, dtype=float)
-        return f if f.size <= PREDICTED_POINTS else np.linspace(f[0], f[-1], PREDICTED_POINTS)
-    f0 = spec.target.center_hz
-    return np.linspace((1 - PREDICTED_SPAN) * f0, (1 + PREDICTED_SPAN) * f0, PREDICTED_POINTS)
-
-
-def prepare(spec: Spec, measurement: Measurement | None = None, *, calibration=None, model: str = sizing.DEFAULT_MODEL,
-            series: str = "E24", progress: Progress | None = None) -> ReportData:
-    """Size, lay out, check, predict and match ``spec``.  The match uses the measured Zin when
-    given, else the prediction corrected by ``calibration`` (a :class:`footgen.retune.Calibration`
-    from the previous revision's measurement) when given, else the plain prediction."""
-    from footgen.retune import corrected_zin_ohm, model_zin_ohm
+def prepare(spec: Spec, measurement: Measurement | None = None, *, calibration: Calibration | None = None,
+            uncalibrated: bool = False, model: str = sizing.DEFAULT_MODEL, series: str = "E24",
+            package: str = DEFAULT_PACKAGE, progress: Progress | None = None) -> ReportData:
+    """Size, lay out, check, predict and match ``spec`` on the model path of ``predict``.  The
+    prediction is calibrated by ``calibration`` when given, else by the calibration the revision
+    holds (none with ``uncalibrated``).  The match uses the measured Zin when given, else the
+    calibrated prediction, else the bare one."""
+    from footgen.prediction import predict_spec, sized
 
     say = progress or _quiet
     say(f"report: sizing {spec.name} revision {spec.revision} with the {model} model")
-    sz = sizing.size(spec, model=model)
+    sz = sized(spec, model)
     layout = build_layout(spec, sz)
     say("report: rule check")
     violations = tuple(check(layout, spec.fab))
-    f = _sweep(spec, measurement)
-    say(f"report: predicting S11 at {f.size} frequencies")
-    z_pred = model_zin_ohm(spec, sz, f, model)
-    s_pred = (z_pred - Z0_OHM) / (z_pred + Z0_OHM)
-    s_corr = None
+    say("report: predicting S11")
+    pred = predict_spec(spec, model=model, calibrate=not uncalibrated, numbers=sz)
     if calibration is not None:
-        z_corr = corrected_zin_ohm(spec, sz, f, calibration, model)
-        s_corr = (z_corr - Z0_OHM) / (z_corr + Z0_OHM)
-    f_load = f
+        from dataclasses import replace
+
+        pred = replace(pred, calibration=calibration)
+    say(f"report: {pred.calibration_line()}")
+    f, s_pred = pred.bare_freq_hz, (pred.bare_zin_ohm - Z0_OHM) / (pred.bare_zin_ohm + Z0_OHM)
+    f_corr = s_corr = None
+    if pred.calibration is not None:
+        f_corr, s_corr = pred.freq_hz, pred.s11
+    f0 = spec.target.center_hz
     if measurement is not None:
         f_load = np.asarray(measurement.freq_hz, dtype=float)
         z_load = measurement.z0_ohm * (1 + measurement.s11) / (1 - measurement.s11)
         matched_on = "measured"
-    elif calibration is not None:
-        z_load, matched_on = z_corr, "corrected prediction"
+        if not (f_load[0] <= f0 <= f_load[-1]):
+            raise MeasurementError(f"{measurement.source}: the band centre {f0 / 1e6:.2f} MHz lies outside the sweep; measure across the band")
     else:
-        z_load, matched_on = z_pred, "predicted"
-    f0 = spec.target.center_hz
-    if not (f[0] <= f0 <= f[-1]):
-        raise MeasurementError(
-            f"{measurement.source if measurement else 'sweep'}: the band centre {f0 / 1e6:.2f} MHz lies outside the sweep; "
-            "measure across the band"
-        )
-    band = (max(spec.target.low_hz, f[0]), min(spec.target.high_hz, f[-1]))
-    say(f"report: matching networks at {f0 / 1e6:.2f} MHz ({matched_on} Zin, {series})")
-    plan = matching.plan_match(f_load, z_load, f0, band_hz=band, series=series)
-    return ReportData(spec, model, sz, layout, violations, f, s_pred, measurement, plan, matched_on, s_corr, calibration)
+        f_load, z_load = pred.freq_hz, pred.zin_ohm
+        matched_on = "calibrated prediction" if pred.calibration is not None else "predicted"
+    band = (max(spec.target.low_hz, f_load[0]), min(spec.target.high_hz, f_load[-1]))
+    say(f"report: matching networks at {f0 / 1e6:.2f} MHz ({matched_on} Zin, {series}, {package})")
+    plan = match_plan.plan_match(f_load, z_load, f0, band_hz=band, series=series, package=package)
+    return ReportData(spec, model, sz, layout, violations, f, s_pred, measurement, plan, matched_on, s_corr,
+                      pred.calibration, f_corr, pred.calibration_line(),
+                      _radiation(spec, sz, model, f))
+
+
+def _radiation(spec: Spec, sz: Sizing, model: str, f: np.ndarray):
+    """Efficiency and peak realised gain at the band centre from the MoM currents, or None."""
+    from footgen.prediction import RADIATION_MODELS
+
+    if model not in RADIATION_MODELS:
+        return None
+    from footgen.prediction import copper_ifa
+    from footgen.radiation import mom_summary
+
+    return mom_summary(copper_ifa(spec, sz), spec.target.center_hz, float(f.max()), mesh=RADIATION_MODELS[model])
 
 
 def _stem(spec: Spec) -> str:
@@ -162,31 +185,21 @@ def _stem(spec: Spec) -> str:
 
 
 def s11_figure(data: ReportData):
-    from matplotlib.figure import Figure
+    from footgen.plots import s11_figure as plot
 
-    fig = Figure(figsize=(8.0, 4.5))
-    ax = fig.add_subplot(1, 1, 1)
-    mhz = data.freq_hz / 1e6
-    lo, hi = data.spec.target.low_hz / 1e6, data.spec.target.high_hz / 1e6
-    ax.axvspan(lo, hi, color="#e2e8f0", label="target band")
-    ax.axhline(MATCH_LEVEL_DB, color="#718096", lw=0.6, ls=":")
-    ax.plot(mhz, touchstone.s11_db(data.predicted_s11), color="#2b6cb0", lw=1.2, label=f"predicted ({data.model} model)")
+    curves = [(data.freq_hz, data.predicted_s11, {"color": "#2b6cb0", "lw": 1.2, "label": f"predicted, bare model ({data.model})"})]
     if data.corrected_s11 is not None:
-        ax.plot(mhz, touchstone.s11_db(data.corrected_s11), color="#6b46c1", lw=1.2, ls="-.",
-                label="predicted, corrected by the previous measurement")
+        curves.append((data.corrected_freq_hz, data.corrected_s11, {"color": "#6b46c1", "lw": 1.2, "ls": "-.",
+                                                                    "label": "predicted, calibrated by a measurement"}))
     if data.measured is not None:
-        ax.plot(data.measured.freq_hz / 1e6, touchstone.s11_db(data.measured.s11), color="#c53030", lw=1.2, label="measured")
+        curves.append((data.measured.freq_hz, data.measured.s11, {"color": "#c53030", "lw": 1.2, "label": "measured"}))
     best = data.plan.best
     if best.parts:
-        ax.plot(data.plan.freq_hz / 1e6, touchstone.s11_db(best.s11), color="#2f855a", lw=1.0, ls="--", label=f"{data.matched_on} with match ({best.label})")
-    ax.set_xlabel("frequency (MHz)", fontsize=8)
-    ax.set_ylabel("|S11| (dB)", fontsize=8)
-    ax.set_title(f"{data.spec.name} revision {data.spec.revision}: S11 against 50 ohm", fontsize=9)
-    ax.tick_params(labelsize=7)
-    ax.legend(fontsize=7, loc="lower left")
-    ax.grid(True, lw=0.3)
-    fig.tight_layout()
-    return fig
+        curves.append((data.plan.freq_hz, best.s11, {"color": "#2f855a", "lw": 1.0, "ls": "--",
+                                                     "label": f"{data.matched_on} with match ({best.label})"}))
+    marked = 2 if data.measured is not None and data.corrected_s11 is not None else (1 if data.measured is not None else 0)
+    title = f"{data.spec.name} revision {data.spec.revision}: S11 against 50 ohm (markers on the {curves[marked][2]['label'].split(' (')[0]} curve)"
+    return plot(title, (data.spec.target.low_hz, data.spec.target.high_hz), curves, marked=marked)
 
 
 def smith_figure(data: ReportData):
@@ -207,7 +220,7 @@ def smith_figure(data: ReportData):
     g0 = gamma_from_z(data.plan.z_at_f0_ohm / Z0_OHM)
     ax.plot([g0.real], [g0.imag], "o", color="black", ms=3, label=f"f0 {data.plan.f0_hz / 1e6:.2f} MHz")
     ax.legend(fontsize=7, loc="lower left")
-    ax.set_title("Smith chart (50 ohm); thick: target band", fontsize=9)
+    ax.set_title("Smith chart, normalised to 50 ohm (r: resistance, jx: reactance); thick: target band", fontsize=8)
     fig.tight_layout()
     return fig
 
@@ -220,7 +233,7 @@ def _band_text(freq_hz: np.ndarray, s11: np.ndarray, f0_hz: float) -> str:
 
 
 def markdown(data: ReportData, images: dict[str, str], diff_md: str | None = None) -> str:
-    from footgen.retune import measured_dip
+    from footgen.comparison import measured_dip
 
     spec, sz, d, plan = data.spec, data.sizing, data.layout.dims, data.plan
     f0 = plan.f0_hz
@@ -236,38 +249,46 @@ def markdown(data: ReportData, images: dict[str, str], diff_md: str | None = Non
               f"| sizing | {sz.method} |", ""]
     lines += ["## Rule check", ""]
     lines += [f"- {v.line()}" for v in data.violations] or [f"No violations against fab profile `{spec.fab.name}`."]
-    lines += ["", "## S11", "", f"![S11]({images['s11']})", ""]
+    lines += ["", "## S11", "", f"![S11]({images['s11']})", "", data.calibration_line, ""]
     f_pred, level_pred = touchstone.min_s11_db(data.freq_hz, data.predicted_s11)
-    lines += ["| | dip | \\|S11\\| at dip | Zin at dip | -10 dB band around f0 |", "| --- | --- | --- | --- | --- |",
-              f"| predicted | {f_pred / 1e6:.2f} MHz | {level_pred:.1f} dB | "
+    lines += ["| | resonance | \\|S11\\| at resonance | Zin at resonance | -10 dB band around f0 |", "| --- | --- | --- | --- | --- |",
+              f"| predicted, bare model | {f_pred / 1e6:.2f} MHz | {level_pred:.1f} dB | "
               f"{_z(touchstone.zin_at(data.freq_hz, data.predicted_s11, f_pred))} | "
               f"{_band_text(data.freq_hz, data.predicted_s11, f0)} |"]
     if data.corrected_s11 is not None:
-        cal = data.calibration
-        f_c, level_c = touchstone.min_s11_db(data.freq_hz, data.corrected_s11)
-        z_c = touchstone.zin_at(data.freq_hz, data.corrected_s11, f_c)
-        lines.append(f"| corrected prediction | {f_c / 1e6:.2f} MHz | {level_c:.1f} dB | {_z(z_c)} | "
-                     f"{_band_text(data.freq_hz, data.corrected_s11, f0)} |")
-        lines += ["", f"Corrected by the measurement `{Path(cal.source).name}` of the previous revision: frequency x "
-                      f"{cal.freq_ratio:.4f}, resistance x {cal.r_ratio:.4f} (measured / model at the dip)."]
+        cal, f_axis = data.calibration, data.corrected_freq_hz
+        f_c, level_c = touchstone.min_s11_db(f_axis, data.corrected_s11)
+        z_c = touchstone.zin_at(f_axis, data.corrected_s11, f_c)
+        lines.append(f"| predicted, calibrated | {f_c / 1e6:.2f} MHz | {level_c:.1f} dB | {_z(z_c)} | "
+                     f"{_band_text(f_axis, data.corrected_s11, f0)} |")
+        lines += ["", f"Calibration: measurement `{cal.measurement_file}` (SHA-256 `{cal.measurement_sha256[:16]}...`, {cal.date}) "
+                      f"of revision {cal.measured_revision} (spec SHA-256 `{cal.measured_spec_sha256[:16]}...`), measured resonance "
+                      f"{cal.measured_resonance_mhz:.2f} MHz: frequency x {cal.freq_factor:.4f}, resistance x {cal.resistance_factor:.4f}."]
     if data.measured is not None:
         meas = measured_dip(data.measured, f_pred)
         lines.append(f"| measured | {meas.freq_hz / 1e6:.2f} MHz | {meas.s11_db:.1f} dB | {_z(meas.zin_ohm)} | "
                      f"{_band_text(data.measured.freq_hz, data.measured.s11, f0)} |")
-        lines += ["", f"Measured / predicted dip frequency: {meas.freq_hz / f_pred:.4f}."]
+        lines += ["", f"Measured / bare-model resonance: {meas.freq_hz / f_pred:.4f}."]
+    if data.radiation is not None:
+        lines += [""] + [f"Predicted {line}." for line in data.radiation.lines()]
     best = plan.best
     direct = plan.candidates[0]
     lines += ["", "## Match", "", f"![Smith chart]({images['smith']})", "",
               f"Matched on the {data.matched_on} input impedance {_z(plan.z_at_f0_ohm)} at {f0 / 1e6:.2f} MHz; "
-              f"parts snapped to {plan.series}; ideal parts (no part Q, no parasitics).", "",
-              "| network | parts | \\|S11\\| at f0 | worst \\|S11\\| in band |", "| --- | --- | --- | --- |"]
+              f"parts: {plan.series} values as {plan.package} chip parts ({match_plan.ranges_text(plan.package)}; "
+              f"{match_plan.PARTS_NOTE}: series loss from Q, self-resonance); networks with a part outside these ranges are not offered.", "",
+              "| network | parts | \\|S11\\| at f0 | worst \\|S11\\| in band | loss in the network (worst in band) |",
+              "| --- | --- | --- | --- | --- |"]
     for i, c in enumerate(plan.candidates):
         mark = " (chosen)" if i == plan.chosen else ""
         lines.append(f"| {c.label}{mark} | {', '.join(p.describe() for p in c.parts) or 'direct connection'} | "
-                     f"{c.s11_db_at_f0:.1f} dB | {c.worst_s11_db_in_band:.1f} dB |")
-    lines += ["", "Parts list of the chosen match (source side first):", ""]
+                     f"{c.s11_db_at_f0:.1f} dB | {c.worst_s11_db_in_band:.1f} dB | {c.worst_loss_db_in_band:.2f} dB |")
+    lines += [""] + [f"- not offered: {line}" for line in plan.not_offered] + ["", plan.verdict(), ""]
+    lines += ["Parts list of the chosen match (source side first):", ""]
     lines += [f"{i}. {p.describe()}" for i, p in enumerate(best.parts, start=1)] or ["No parts: connect directly."]
-    lines += ["", "## Before / after", "", "| | without match | with the chosen match |", "| --- | --- | --- |",
+    pads = assembly_lines(spec.raw.get("matching_network"), _places(best.parts))
+    lines += [""] + pads + [""] if pads else [""]
+    lines += ["## Before / after", "", "| | without match | with the chosen match |", "| --- | --- | --- |",
               f"| \\|S11\\| at f0 | {direct.s11_db_at_f0:.1f} dB | {best.s11_db_at_f0:.1f} dB |",
               f"| worst \\|S11\\| in band | {direct.worst_s11_db_in_band:.1f} dB | {best.worst_s11_db_in_band:.1f} dB |",
               f"| -10 dB band around f0 | {_band_text(plan.freq_hz, direct.s11, f0)} | {_band_text(plan.freq_hz, best.s11, f0)} |", ""]
@@ -277,31 +298,48 @@ def markdown(data: ReportData, images: dict[str, str], diff_md: str | None = Non
     return "\n".join(lines)
 
 
+def _places(parts: tuple[matching.Part, ...]) -> tuple[tuple[str, str], ...]:
+    """Where a network's parts (source -> load) go on the matching pads: the series part in the
+    series place (a 0 ohm link if none), a shunt part before it at the radio node, after it at
+    the antenna node."""
+    series_at = next((i for i, p in enumerate(parts) if p.placement == matching.SERIES), None)
+    places = [("series", parts[series_at].describe() if series_at is not None else "0 ohm link")]
+    for i, p in enumerate(parts):
+        if p.placement == matching.SHUNT:
+            node = "radio" if series_at is not None and i < series_at else "antenna"
+            places.append((f"shunt at the {node} node", p.describe()))
+    return tuple(places)
+
+
 def _z(z: complex) -> str:
     return f"{z.real:.1f} {'+' if z.imag >= 0 else '-'} j{abs(z.imag):.1f} ohm"
 
 
 def report_files(spec: Spec, measurement: Measurement | None = None, *, previous: Spec | None = None,
-                 calibration=None, model: str = sizing.DEFAULT_MODEL, series: str = "E24",
-                 progress: Progress | None = None) -> dict[str, bytes]:
+                 calibration: Calibration | None = None, uncalibrated: bool = False, model: str = sizing.DEFAULT_MODEL,
+                 series: str = "E24", package: str = DEFAULT_PACKAGE, progress: Progress | None = None) -> dict[str, bytes]:
     """The report's files (relative names -> bytes)."""
-    from footgen.draw import figure_bytes, render_svg_png
+    from footgen.draw import render_svg_png
+    from footgen.plots import figure_bytes
     from footgen.revdiff import diff_layouts, diff_markdown, overlay_svg_png, spec_changes
 
     say = progress or _quiet
-    data = prepare(spec, measurement, calibration=calibration, model=model, series=series, progress=say)
+    data = prepare(spec, measurement, calibration=calibration, uncalibrated=uncalibrated, model=model, series=series,
+                   package=package, progress=say)
     stem = _stem(spec)
     files: dict[str, bytes] = {}
     images = {}
     say("report: drawing")
     subtitle = f"{spec.target.low_hz / 1e6:g}-{spec.target.high_hz / 1e6:g} MHz, {spec.style.kind}, revision {spec.revision}"
-    drawings = {"copper": render_svg_png(data.layout, spec.name, subtitle),
+    drawings = {"copper": render_svg_png(data.layout, spec.name, subtitle, data.violations),
                 "s11": figure_bytes(s11_figure(data)),
                 "smith": figure_bytes(smith_figure(data))}
     diff_md = None
     if previous is not None:
         say("report: comparing with the previous revision")
-        old_layout = build_layout(previous, sizing.size(previous, model=model))
+        from footgen.prediction import sized
+
+        old_layout = build_layout(previous, sized(previous, model))
         diff = diff_layouts(old_layout, data.layout, f"{previous.name} rev {previous.revision}", f"{spec.name} rev {spec.revision}",
                             spec_changes(previous.raw, spec.raw))
         diff_md = diff_markdown(diff)
@@ -315,11 +353,12 @@ def report_files(spec: Spec, measurement: Measurement | None = None, *, previous
 
 
 def write_report(spec: Spec, out_dir: Path, measurement: Measurement | None = None, *, previous: Spec | None = None,
-                 calibration=None, model: str = sizing.DEFAULT_MODEL, series: str = "E24", force: bool = False,
+                 calibration: Calibration | None = None, uncalibrated: bool = False, model: str = sizing.DEFAULT_MODEL,
+                 series: str = "E24", package: str = DEFAULT_PACKAGE, force: bool = False,
                  progress: Progress | None = None) -> list[Path]:
     """Write the report and its images into ``out_dir`` (atomically; files edited by hand are
     only replaced with ``force``)."""
-    files = report_files(spec, measurement, previous=previous, calibration=calibration, model=model, series=series,
-                         progress=progress)
+    files = report_files(spec, measurement, previous=previous, calibration=calibration, uncalibrated=uncalibrated,
+                         model=model, series=series, package=package, progress=progress)
     (progress or _quiet)(f"report: writing {len(files)} files into {out_dir}")
     return write_outputs(Path(out_dir), files, force=force)

@@ -332,7 +332,7 @@ def overlay_svg_png(diff: RevisionDiff) -> tuple[bytes, bytes]:
     """Overlay of both coppers (old outlined grey, new filled copper), feed point at the origin."""
     from matplotlib.figure import Figure
 
-    from footgen.draw import figure_bytes, patches
+    from footgen.plots import figure_bytes, patches
 
     fig = Figure(figsize=(8.0, 4.5))
     ax = fig.add_subplot(1, 1, 1)

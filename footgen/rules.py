@@ -187,6 +187,22 @@ def rule_keepout_cover(layout: Layout, fab: FabLimits) -> list[Violation]:
     return [Violation("keepout_margin", margin, fab.min_clearance_mm, c.x, c.y, "antenna copper not inside the clearance keep-out by the fab clearance")]
 
 
+def rule_matching_pads(layout: Layout, fab: FabLimits) -> list[Violation]:
+    """The matching network's lands: pads of different nodes apart by the fab clearance, and
+    its RF pads (antenna and radio node) that far from the ground pour."""
+    lands = [p for p in layout.pads if p.solderable]
+    out = []
+    for i, a in enumerate(lands):
+        for b in lands[i + 1:]:
+            if a.number != b.number:
+                out += _too_close("matching_pad_clearance", a.polygon, b.polygon, fab.min_clearance_mm,
+                                  f"matching pads {a.number} and {b.number} too close")
+        if a.number != "2":
+            out += _too_close("matching_pad_clearance", a.polygon, layout.ground, fab.min_clearance_mm,
+                              f"matching pad {a.number} too close to the ground pour")
+    return out
+
+
 RULES: dict[str, Callable[[Layout, FabLimits], list[Violation]]] = {
     "trace_width": rule_trace_width,
     "copper_clearance": rule_turn_gap,
@@ -198,6 +214,7 @@ RULES: dict[str, Callable[[Layout, FabLimits], list[Violation]]] = {
     "hole_to_hole": rule_hole_to_hole,
     "hole_clearance": rule_hole_clearance,
     "keepout_margin": rule_keepout_cover,
+    "matching_pad_clearance": rule_matching_pads,
 }
 
 

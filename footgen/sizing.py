@@ -15,19 +15,23 @@ from functools import lru_cache
 from typing import Callable
 
 import numpy as np
-from scipy import optimize
 
+from footgen import sizing_cache
 from footgen.errors import InfeasibleSpecError, SolverError
 from footgen.geometry.layout import Sizing, generate_copper, max_arm_height_mm, min_meander_pitch_mm
 from footgen.model import printed_ifa
 from footgen.physics.ifa import PrintedIfa
-from footgen.physics.lines import eps_eff_strip_beside_ground_edge
-from footgen.physics import predict
-from footgen.physics.mom import MomSolver
-from footgen.physics.wires import MeshControl, ifa_wire_model
-from footgen.physics.tline_ifa import quarter_wave_estimate_hz, resonance_tline_ifa_hz, zin_tline_ifa
 from footgen.constants import C0_M_PER_S
 from footgen.spec import Spec
+
+# The response models (scipy, the MoM solver) are imported where they are called: a spec that
+# gives its geometry explicitly is built without loading them.
+
+
+def _brentq(fn: Callable[[float], float], lo: float, hi: float) -> float:
+    from scipy.optimize import brentq
+
+    return brentq(fn, lo, hi, rtol=ROOT_RTOL)
 
 #: Reference impedance the feed tap is matched to (ohm).
 MATCH_OHM = 50.0
@@ -69,20 +73,42 @@ def _mom_zin(freq_hz: np.ndarray, ifa: PrintedIfa, progress: Callable[[int, int]
     (MOM_MESH_PER_ESTIMATE times its quarter-wave estimate), not by the sweep: single-frequency
     synthesis solves, narrow and wide sweeps of one copper then see the same discretisation
     (a sweep reaching beyond MOM_MESH_STRETCH times that frequency is meshed for its top).
+    Dense sweeps are solved on fewer points and interpolated
+    (:func:`footgen.physics.predict.zin_resampled`).
     ``mesh``: :class:`footgen.physics.wires.MeshControl` settings other than the defaults."""
+    from footgen.physics.predict import resampled_points, zin_resampled
+
     f = np.atleast_1d(np.asarray(freq_hz, float))
-    mesh_hz = MOM_MESH_PER_ESTIMATE * quarter_wave_estimate_hz(ifa)
-    if f.max() > MOM_MESH_STRETCH * mesh_hz:  # far above: mesh for the sweep itself
-        mesh_hz = float(f.max())
-    solver = MomSolver(ifa_wire_model(ifa, mesh_hz, control=MeshControl(f_max_hz=mesh_hz, **(mesh or {}))))
+    # dense (prediction) sweeps solve in mixed precision; the synthesis' own solves stay in double
+    dense = resampled_points(f) is not None
+    solver = mom_solver(ifa, float(f.max()), mesh, mixed_precision=dense)
     if f.size < MOM_INTERPOLATE_FROM:
         return solver.sweep_direct(f, progress=progress)
-    return solver.sweep_interpolated(f, progress=progress)
+    return zin_resampled(lambda grid: solver.sweep_interpolated(grid, progress=progress), f)
+
+
+def mom_solver(ifa: PrintedIfa, f_max_hz: float, mesh: dict[str, float] | None = None, *, mixed_precision: bool = False):
+    """The MoM solver :func:`_mom_zin` uses for ``ifa`` up to ``f_max_hz`` (same wire mesh), so the
+    far field (:mod:`footgen.radiation`) sees the currents of the predicted S11."""
+    from footgen.physics.mom import MomSolver
+    from footgen.physics.tline_ifa import quarter_wave_estimate_hz
+    from footgen.physics.wires import MeshControl, ifa_wire_model
+
+    mesh_hz = MOM_MESH_PER_ESTIMATE * quarter_wave_estimate_hz(ifa)
+    if f_max_hz > MOM_MESH_STRETCH * mesh_hz:  # far above: mesh for the sweep itself
+        mesh_hz = f_max_hz
+    sizing_cache.sync_board_edge()  # board-edge 2-D solves of earlier runs: load once per process
+    solver = MomSolver(ifa_wire_model(ifa, mesh_hz, control=MeshControl(f_max_hz=mesh_hz, **(mesh or {}))), mixed_precision=mixed_precision)
+    sizing_cache.sync_board_edge()  # keep any new ones for later runs
+    return solver
 
 
 def _mom_resonance_hz(ifa: PrintedIfa, mesh: dict[str, float] | None = None) -> float:
     """MoM resonance (min |S11| against 50 ohm) searched around the transmission-line model's
     estimate: a coarse interpolated sweep, then a fine one around its minimum."""
+    from footgen.physics import predict
+    from footgen.physics.tline_ifa import resonance_tline_ifa_hz
+
     guess = resonance_tline_ifa_hz(ifa)
     coarse = np.linspace(MOM_SEARCH_LOW * guess, MOM_SEARCH_HIGH * guess, MOM_SEARCH_POINTS)
     s11 = predict.s11_from_zin(_mom_zin(coarse, ifa, mesh=mesh), MATCH_OHM)
@@ -98,11 +124,23 @@ def _mom_resonance_hz(ifa: PrintedIfa, mesh: dict[str, float] | None = None) -> 
 SEARCH_MESH = {"grid_pitch_per_wavelength": 10.0, "edge_row_trace_widths": 1.0, "grid_growth": 2.0}
 
 
+def _tline_resonance_hz(ifa: PrintedIfa) -> float:
+    from footgen.physics.tline_ifa import resonance_tline_ifa_hz
+
+    return resonance_tline_ifa_hz(ifa)
+
+
+def _tline_zin(freq_hz: np.ndarray, ifa: PrintedIfa, progress: Callable[[int, int], None] | None = None) -> np.ndarray:
+    from footgen.physics.tline_ifa import zin_tline_ifa
+
+    return zin_tline_ifa(freq_hz, ifa)
+
+
 MODELS: dict[str, ResponseModel] = {
     "tline": ResponseModel(
         "transmission-line model (footgen.physics.tline_ifa)",
-        resonance_tline_ifa_hz,
-        lambda f, ifa, progress=None: zin_tline_ifa(f, ifa),
+        _tline_resonance_hz,
+        _tline_zin,
     ),
     "mom": ResponseModel(
         "thin-wire method of moments (footgen.physics.mom) over the ground grid and laminate",
@@ -139,6 +177,8 @@ def quarter_wave_first_estimate_mm(spec: Spec, height_mm: float) -> float:
     That eps_eff lies between 1 and (eps_r + 1)/2 and accounts for the laminate's finite
     thickness and the arm's height; it is a first estimate, refined by the response model.
     """
+    from footgen.physics.lines import eps_eff_strip_beside_ground_edge
+
     w = spec.trace_width_mm * 1e-3
     gap = max(height_mm - spec.trace_width_mm / 2, spec.trace_width_mm / 2) * 1e-3
     eps_eff = float(eps_eff_strip_beside_ground_edge(w, gap, spec.laminate.eps_r, spec.laminate.thickness_mm * 1e-3))
@@ -217,7 +257,7 @@ def _solve_length(ev: _Evaluator, height: float, spacing: float, f0: float) -> f
             round(height, 3),
             f"even the shortest arm ({shortest:.2f} mm) resonates below {f0 / 1e6:.1f} MHz at this height; lower the arm",
         )
-    return optimize.brentq(mismatch, shortest, longest, rtol=ROOT_RTOL)
+    return _brentq(mismatch, shortest, longest)
 
 
 def _box_too_small(ev: _Evaluator, height: float, spacing: float, f0: float, longest: float | None) -> InfeasibleSpecError:
@@ -261,7 +301,7 @@ def _solve_spacing(ev: _Evaluator, length: float, height: float, f0: float, note
 
     m_lo, m_hi = mismatch(lo), mismatch(hi)
     if m_lo * m_hi <= 0:
-        return optimize.brentq(mismatch, lo, hi, rtol=ROOT_RTOL)
+        return _brentq(mismatch, lo, hi)
     best = lo if abs(m_lo) < abs(m_hi) else hi
     r = ev.resistance_at_resonance(length, height, best)
     notes.append(f"no feed tap gives 50 ohm at resonance here; best {best:.3f} mm gives {r:.1f} ohm (consider a matching network)")
@@ -271,11 +311,20 @@ def _solve_spacing(ev: _Evaluator, length: float, height: float, f0: float, note
 @lru_cache(maxsize=64)
 def size(spec: Spec, model: str = DEFAULT_MODEL) -> Sizing:
     """Sizing for ``spec`` with the named response model: the start model's sizing, refined
-    with ``model`` (if it is another one) so that the feed sees 50 ohm at the band centre."""
+    with ``model`` (if it is another one) so that the feed sees 50 ohm at the band centre.
+
+    A sizing finished earlier for the same spec, model and footgen code comes from
+    :mod:`footgen.sizing_cache` (an explicit geometry is taken as given without it)."""
+    if spec.arm.length_mm is not None and spec.arm.feed_short_spacing_mm is not None:
+        return _size_with(spec, START_MODEL)
+    key = sizing_cache.spec_key(spec)
+    cached = sizing_cache.load(key, model)
+    if cached is not None:
+        return cached
     start = _size_with(spec, START_MODEL)
-    if model == START_MODEL or start.method == "as given":
-        return start
-    return refine(spec, start, model)
+    result = start if model == START_MODEL else refine(spec, start, model)
+    sizing_cache.store(key, model, result)
+    return result
 
 
 def _size_with(spec: Spec, model: str) -> Sizing:
@@ -352,6 +401,8 @@ REFINE_REPORT_GAMMA = 0.316
 def _resonant_length(ev: _Evaluator, length: float, height: float, spacing: float, f0: float, shortest: float, longest: float) -> float:
     """Two secant steps on the arm length with the model's resonance (min |S11|): puts the
     refinement's start on the right mode even where the start model is far off (meanders)."""
+
+    from footgen.physics import predict
 
     def resonance(trial: float) -> float:
         # one interpolated sweep around the current estimate (cheaper than the model's own search)
@@ -433,6 +484,21 @@ def _refine_passes(
     return x, g, pitch, pass_pitch
 
 
+#: Threads evaluating independent trials of the refinement (start grid, Jacobian columns): the
+#: model set-up runs in Python, the fills and LAPACK solves release the GIL.
+SEARCH_WORKERS = 2
+
+
+def _evaluate_all(fn: Callable[[dict[str, float]], np.ndarray], trials: list[dict[str, float]]) -> list[np.ndarray]:
+    """``[fn(t) for t in trials]``, independent trials spread over SEARCH_WORKERS threads."""
+    if len(trials) < 2:
+        return [fn(t) for t in trials]
+    from concurrent.futures import ThreadPoolExecutor
+
+    with ThreadPoolExecutor(max_workers=SEARCH_WORKERS) as pool:
+        return list(pool.map(fn, trials))
+
+
 def _refine_pass(
     spec: Spec, rm: ResponseModel, h: float, x0: dict[str, float], pitch: float | None, *, first: bool
 ) -> tuple[dict[str, float], float, bool]:
@@ -469,20 +535,20 @@ def _refine_pass(
         "spacing": list(np.geomspace(lo["spacing"], max(lo["spacing"], min(hi["spacing"], REFINE_GRID_SPACING_SPAN * lo["spacing"])), REFINE_GRID_SPACING_POINTS)),
     }
     axes = [grids[name] if name in free and first else [x[name]] for name in ("length", "spacing")]
-    for length in axes[0]:
-        for spacing in axes[1]:
-            trial = clamp({"length": length, "spacing": spacing})
-            r_trial = gamma(trial)
-            if np.hypot(*r_trial) < np.hypot(*r):
-                x, r = trial, r_trial
+    trials = [clamp({"length": length, "spacing": spacing}) for length in axes[0] for spacing in axes[1]]
+    for trial, r_trial in zip(trials, _evaluate_all(gamma, trials)):
+        if np.hypot(*r_trial) < np.hypot(*r):
+            x, r = trial, r_trial
     for _ in range(REFINE_ITERATIONS):
         if np.hypot(*r) < REFINE_GAMMA_TOL:
             break
         jac = np.empty((2, len(free)))
+        forward = [{**x, name: x[name] + steps[name]} for name in free]
+        inside = [trial[name] <= hi[name] for trial, name in zip(forward, free)]
+        r_forward = iter(_evaluate_all(gamma, [t for t, ok in zip(forward, inside) if ok]))
         for j, name in enumerate(free):
-            trial = dict(x)
-            trial[name] = x[name] + steps[name]
-            r_step = gamma(trial) if trial[name] <= hi[name] else None
+            trial = forward[j]
+            r_step = next(r_forward) if inside[j] else None
             if r_step is None or r_step[0] == 1.0:
                 trial[name] = x[name] - steps[name]
                 r_step = gamma(trial)

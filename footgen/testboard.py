@@ -28,6 +28,8 @@ STITCH_VIA_SIZE_MM = 0.8
 ZONE_CLEARANCE_MM = 0.3
 ZONE_MIN_WIDTH_MM = 0.25
 RF_NET = "RF_ANT"
+#: The antenna node between a matching network's series part and the antenna.
+ANTENNA_NET = "ANT_NODE"
 GND_NET = "GND"
 
 
@@ -53,6 +55,14 @@ def test_board_plan(spec: Spec, layout: Layout, *, library: str, footprint_file:
     pl, gap = spec.feed.pad_length_mm, spec.feed.port_gap_mm
     # start deep enough in the pad that the track's round end stays below the ground edge
     start_y = min(-pl / 2, -spec.feed.pad_width_mm / 2)
+    nets = {"rf": RF_NET, "gnd": GND_NET}
+    radio = [p for p in layout.pads if p.number == "3"]
+    if radio:
+        # A matching network on the feed: the track leaves its radio-side pad (3); the antenna
+        # node (pad 1) is a net of its own, joined to pad 3 only by the part fitted between them.
+        x3, y3 = radio[0].center
+        start_y = b * x3 + d * y3  # canonical y: the placement matrix is orthogonal, its inverse its transpose
+        nets["antenna"] = ANTENNA_NET
     track = [board_pt(0.0, start_y), board_pt(0.0, -pl - gap - FEED_TRACK_RUN_MM)]
     vias = []
     y = -STITCH_MARGIN_MM - pl - gap - FEED_TRACK_RUN_MM
@@ -71,7 +81,7 @@ def test_board_plan(spec: Spec, layout: Layout, *, library: str, footprint_file:
             "file": footprint_file,
             "position_mm": [ox, oy],
         },
-        "nets": {"rf": RF_NET, "gnd": GND_NET},
+        "nets": nets,
         "outline_mm": ring(outline),
         "ground_zones": [{"layer": layer, "polygon_mm": ring(ground)} for layer in ("F.Cu", "B.Cu")],
         "zone_clearance_mm": max(ZONE_CLEARANCE_MM, fab.min_clearance_mm),

@@ -9,6 +9,9 @@ import tempfile
 os.environ.setdefault("OPENBLAS_NUM_THREADS", "1")
 # Hypothesis keeps caches in ./.hypothesis by default: put them in the temp folder instead.
 os.environ.setdefault("HYPOTHESIS_STORAGE_DIRECTORY", os.path.join(tempfile.gettempdir(), "footgen-hypothesis"))
+# Finished sizings are cached on disk (footgen.sizing_cache): the tests keep theirs in the temp
+# folder, never in the user's cache; so do the model sweeps (footgen.cache).
+os.environ.setdefault("FOOTGEN_CACHE_DIR", os.path.join(tempfile.gettempdir(), "footgen-test-cache"))
 
 import json  # noqa: E402
 import shutil

@@ -62,6 +62,7 @@ def measured(tmp_path: Path, spec_path: Path) -> Path:
     f = np.linspace(2.0e9, 2.9e9, 451)
     z = sizing.MODELS[MODEL].zin_ohm(f, evaluator(board).ifa(numbers.arm_length_mm, numbers.height_mm, numbers.feed_short_spacing_mm))
     net = skrf.Network(frequency=skrf.Frequency.from_f(f, unit="hz"), s=((z - 50) / (z + 50)).reshape(-1, 1, 1), z0=50.0)
+    net.comments = "synthetic board, measured 2026-11-20 (invented)"
     net.write_touchstone(str(tmp_path / "board"), form="db")
     return tmp_path / "board.s1p"
 
@@ -155,7 +156,7 @@ def test_report_corrected_by_the_previous_sweep(tmp_path, spec_path, measured):
     result = run("report", out, "--previous", spec_path, "--previous-measured", measured, "-o", tmp_path / "rep")
     assert result.exit_code == 0, result.output
     md = (tmp_path / "rep" / "ifa_2g4_straight-r2.report.md").read_text("utf-8")
-    assert "| corrected prediction |" in md and "Matched on the corrected prediction" in md
+    assert "| predicted, calibrated |" in md and "Matched on the calibrated prediction" in md
     assert "$.arm.length_mm" in md
     lonely = run("report", out, "--previous-measured", measured, "-o", tmp_path / "rep2")
     assert lonely.exit_code == EXIT_INPUT and "--previous" in lonely.output + lonely.stderr

@@ -62,13 +62,14 @@ def test_report_content(tmp_path):
         assert f"ifa_2g4_straight-r2.{image}.png)" in md
     assert SAFETY_NOTE in md
     assert "## Rule check" in md and "Parts list of the chosen match" in md
-    assert "| measured |" in md and "| predicted |" in md
+    assert "| measured |" in md and "| predicted, bare model |" in md
     assert "$.arm.length_mm" in md  # the before/after table of the spec change
     assert len(messages) >= 5 and all(msg.startswith("report:") for msg in messages)
 
 
 def test_report_writes_atomically(tmp_path, monkeypatch):
     """A failure half-way leaves every earlier file whole (old content), and no temp files."""
+    monkeypatch.setenv("FOOTGEN_CACHE_DIR", "")  # only the report's own file replacements are counted
     out = tmp_path / "r"
     loop_report.write_report(spec(1), out, model=MODEL)
     before = {p.name: p.read_bytes() for p in out.iterdir()}
@@ -117,12 +118,13 @@ LANDING_REL = 5e-3
 
 def test_corrected_prediction_of_the_next_revision_follows_the_board(tmp_path):
     """Synthetic board (the model itself with eps_r 5.0 instead of 4.4, an invented detuning):
-    revision 1 is measured, retuned; the report of revision 2 corrected by revision 1's sweep
-    puts the dip where the same board would show it, and matches on that corrected Zin."""
+    revision 1 is measured, retuned; the report of revision 2, calibrated by the calibration the
+    revision holds, puts the resonance where the same board would show it, and matches on that
+    calibrated Zin."""
     import copy
 
     from footgen import sizing
-    from footgen.retune import calibrate, evaluator, retune
+    from footgen.retune import evaluator, retune
 
     def board_s11(s, numbers, f):
         raw = copy.deepcopy(s.raw)
@@ -133,13 +135,18 @@ def test_corrected_prediction_of_the_next_revision_follows_the_board(tmp_path):
 
     r1 = spec(1)
     f = np.linspace(2.0e9, 2.9e9, 901)
-    m1 = touchstone.read_s11(touchstone.write_s1p(tmp_path / "r1.s1p", f, board_s11(r1, sizing.size(r1, model=MODEL), f)))
+    m1 = touchstone.read_s11(touchstone.write_s1p(tmp_path / "r1.s1p", f, board_s11(r1, sizing.size(r1, model=MODEL), f),
+                                                  comment="synthetic, measured 2026-11-20 (invented)"))
     r2 = retune(r1, m1, model=MODEL).new_spec
-    data = loop_report.prepare(r2, calibration=calibrate(r1, m1, model=MODEL), model=MODEL)
-    assert data.matched_on == "corrected prediction"
-    f_corrected = touchstone.min_s11_db(data.freq_hz, data.corrected_s11)[0]
+    data = loop_report.prepare(r2, model=MODEL)
+    assert data.matched_on == "calibrated prediction"
+    f_corrected = touchstone.min_s11_db(data.corrected_freq_hz, data.corrected_s11)[0]
     f_board = touchstone.min_s11_db(f, board_s11(r2, sizing.size(r2, model=MODEL), f))[0]
     assert abs(f_corrected / f_board - 1) < LANDING_REL
     z_board = touchstone.zin_at(f, board_s11(r2, sizing.size(r2, model=MODEL), f), r2.target.center_hz)
-    # 2 %: the display correction scales R and the frequency only (an approximation)
+    # 2 %: the calibration scales R and the frequency only (an approximation)
     assert data.plan.z_at_f0_ohm.real == pytest.approx(z_board.real, rel=0.02)
+    # --uncalibrated: the bare model, no calibrated curve, matched on the bare prediction
+    bare = loop_report.prepare(r2, model=MODEL, uncalibrated=True)
+    assert bare.corrected_s11 is None and bare.matched_on == "predicted"
+    assert bare.calibration_line.startswith("uncalibrated")

@@ -14,6 +14,8 @@ from skrf.media import DefinedGammaZ0
 
 from footgen.errors import SpecError
 from footgen.rf import eseries
+from footgen.rf import parts as chip
+from footgen.rf import match_plan as mp
 from footgen.rf import matching as mt
 
 # Pozar prints element values to 2-3 significant figures (e.g. 38.8 nH from X rounded to 122).
@@ -185,6 +187,27 @@ def skrf_s11(freq_hz: np.ndarray, parts: tuple[mt.Part, ...], z_load_ohm: np.nda
     return network.s[:, 0, 0]
 
 
+def skrf_chip_s11(freq_hz: np.ndarray, parts: tuple[mt.Part, ...], z_load_ohm: np.ndarray) -> np.ndarray:
+    """S11 of chip parts (with parasitics) cascaded by scikit-rf.  A capacitor is scikit-rf's own
+    series R-L-C (resistor ** inductor ** capacitor, to ground through a short for a shunt
+    part); an inductor's impedance, L with R = omega L / Q_L in parallel with C_p (the model
+    footgen.rf.parts names), enters as a scikit-rf resistor of that complex value."""
+    media = DefinedGammaZ0(frequency=skrf.Frequency.from_f(freq_hz, unit="hz"), z0=50.0)
+    omega = 2 * np.pi * freq_hz
+    network = media.load((z_load_ohm - 50.0) / (z_load_ohm + 50.0))
+    for part in reversed(parts):
+        pkg = chip.PACKAGES[part.package]
+        if part.kind == "C":
+            element = media.resistor(1.0 / (omega * part.value * pkg.q_c)) ** media.inductor(pkg.esl_h) ** media.capacitor(part.value)
+            stage = element if part.placement == "series" else media.shunt(element ** media.short())
+        else:
+            branch = omega * part.value / pkg.q_l + 1j * omega * part.value
+            z = 1.0 / (1.0 / branch + 1j * omega * pkg.cp_f)
+            stage = media.resistor(z) if part.placement == "series" else media.shunt_resistor(z)
+        network = stage ** network
+    return network.s[:, 0, 0]
+
+
 def antenna_like_load_ohm(freq_hz: np.ndarray) -> np.ndarray:
     """Invented demo load (series RLC, R = 18 ohm, about 18 + j40 ohm at 2.45 GHz): only the
     circuit algebra is checked against scikit-rf, not any physics of the load."""
@@ -342,23 +365,78 @@ BAND_HZ = (2.4e9, 2.4835e9)
 @pytest.mark.parametrize("series", ["E12", "E24"])
 def test_plan_lists_snapped_networks_with_their_band_response(series):
     z_load = antenna_like_load_ohm(SWEEP_HZ)
-    plan = mt.plan_match(SWEEP_HZ, z_load, F0_HZ, band_hz=BAND_HZ, series=series)
+    plan = mp.plan_match(SWEEP_HZ, z_load, F0_HZ, band_hz=BAND_HZ, series=series)
     labels = [c.label for c in plan.candidates]
     assert labels[0] == "direct" and any(l.startswith("L ") for l in labels) and any(l.startswith("pi ") for l in labels)
     in_band = (SWEEP_HZ >= BAND_HZ[0]) & (SWEEP_HZ <= BAND_HZ[1])
     for c in plan.candidates:
         # every part is a preferred value (IEC 60063 lists) and the response is that of the
-        # snapped parts, as scikit-rf cascades them
+        # snapped chip parts, as scikit-rf cascades them
         assert all(eseries.in_series(p.value, series) for p in c.parts)
-        np.testing.assert_allclose(c.s11, skrf_s11(SWEEP_HZ, c.parts, z_load), rtol=0, atol=SKRF_AGREEMENT_ABS)
+        np.testing.assert_allclose(c.s11, skrf_chip_s11(SWEEP_HZ, c.parts, z_load), rtol=0, atol=SKRF_AGREEMENT_ABS)
         assert c.worst_s11_db_in_band == pytest.approx(
             max(float(np.max(20 * np.log10(np.abs(c.s11[in_band])))), c.s11_db_at_f0), abs=1e-9
         )
     best = min(c.worst_s11_db_in_band for c in plan.candidates)
-    assert plan.best.worst_s11_db_in_band <= best + mt.EQUAL_WORST_DB
+    assert plan.best.worst_s11_db_in_band <= best + mp.EQUAL_WORST_DB
     assert plan.best.worst_s11_db_in_band < plan.candidates[0].worst_s11_db_in_band  # better than no match
 
 
 def test_plan_rejects_f0_outside_the_sweep():
     with pytest.raises(SpecError):
-        mt.plan_match(SWEEP_HZ, antenna_like_load_ohm(SWEEP_HZ), 5e9)
+        mp.plan_match(SWEEP_HZ, antenna_like_load_ohm(SWEEP_HZ), 5e9)
+
+
+# ----------------------------------------------------------------------------- buildable parts
+
+
+@settings(max_examples=60, deadline=None)
+@given(st.floats(3.0, 400.0), st.floats(-300.0, 300.0), st.sampled_from(["0402", "0603"]), st.sampled_from(["E12", "E24"]),
+       st.sampled_from([433e6, 868e6, 915e6, 2.45e9]))
+def test_every_offered_part_is_inside_its_range(r_ohm, x_ohm, package, series, f0_hz):
+    """Invented loads over a wide span: whatever is offered can be bought (value range of the
+    package, below SRF_MARGIN of its self-resonance), and a network left out names its part."""
+    f = np.linspace(0.9 * f0_hz, 1.1 * f0_hz, 41)
+    plan = mp.plan_match(f, np.full(f.size, complex(r_ohm, x_ohm)), f0_hz, series=series, package=package)
+    pkg = chip.PACKAGES[package]
+    for c in plan.candidates:
+        for p in c.parts:
+            lo, hi = chip.value_range(pkg, p.kind)
+            assert lo * (1 - 1e-9) <= p.value <= hi * (1 + 1e-9) and p.package == package
+            assert max(plan.band_hz[1], f0_hz) <= chip.SRF_MARGIN * chip.self_resonance_hz(pkg, p.kind, p.value)
+        assert c.worst_loss_db_in_band >= -1e-12  # passive parts never add power
+    assert plan.candidates[0].label == "direct" and plan.candidates[0].worst_loss_db_in_band == pytest.approx(0.0, abs=1e-12)
+    assert all("outside the" in line or "self-resonates" in line for line in plan.not_offered)
+
+
+def test_no_buildable_network_says_so():
+    """Invented load: 2 + j400 ohm at 2.45 GHz needs a series capacitor far below 0.5 pF or a
+    shunt inductor far below 1 nH for every L and pi solution."""
+    f = np.linspace(2.4e9, 2.5e9, 21)
+    plan = mp.plan_match(f, np.full(f.size, 2.0 + 400j), 2.45e9, band_hz=(2.4e9, 2.4835e9))
+    assert [c.label for c in plan.candidates] == ["direct"] and plan.not_offered
+    assert plan.no_buildable_network
+    assert plan.verdict().startswith("no buildable network: every L and pi network needs parts outside the 0402 ranges")
+
+
+def test_values_print_in_pf_and_nh():
+    assert mt.Part("shunt", "C", 1.2e-12, "0402").describe() == "shunt C 1.2 pF (0402)"
+    assert mt.Part("series", "L", 3.9e-9).describe() == "series L 3.9 nH"
+    assert mt.Part("series", "C", 100e-12).describe() == "series C 100 pF"
+
+
+def test_chip_capacitor_self_resonates_where_its_model_says():
+    """A 10 pF 0402 capacitor with its package inductance is a series L-C: its reactance
+    vanishes at 1 / (2 pi sqrt(L_s C)) (series resonance, Pozar, Microwave Engineering, 4th ed.,
+    sec. 6.1, from memory)."""
+    pkg = chip.PACKAGES["0402"]
+    f_sr = chip.self_resonance_hz(pkg, "C", 10e-12)
+    x = chip.impedance_ohm(2 * np.pi * np.array([0.99 * f_sr, 1.01 * f_sr]), "C", 10e-12, pkg).imag
+    assert x[0] < 0 < x[1]
+    assert f_sr == pytest.approx(1 / (2 * math.pi * math.sqrt(pkg.esl_h * 10e-12)))
+
+
+def test_matched_load_needs_no_network():
+    f = np.linspace(2.3e9, 2.6e9, 31)
+    plan = mp.plan_match(f, np.full(f.size, 52.0 + 3.0j), 2.45e9, band_hz=(2.4e9, 2.4835e9))
+    assert plan.best.label == "direct" and plan.verdict().startswith("no network needed")

@@ -159,3 +159,32 @@ def test_bad_inputs_raise_solver_error() -> None:
     bad = PrintedIfa(**{**demo_ifa().__dict__, "feed_x_m": 20 * MM})
     with pytest.raises(SolverError):
         predict.zin_ohm(bad, np.array([2.4e9]))
+
+
+# Dense sweeps are solved on fewer points and Zin interpolated (predict.zin_resampled).  The
+# allowance is ours (common practice, no source): far below what a VNA resolves.
+RESAMPLE_DB_TOL = 0.002
+
+
+def test_resampled_sweep_matches_the_full_sweep() -> None:
+    solver = MomSolver(ifa_wire_model(demo_ifa(), 2.94e9))
+    freqs = np.linspace(0.8 * 2.45e9, 1.2 * 2.45e9, 201)
+    solved: list[int] = []
+
+    def sweep(f: np.ndarray) -> np.ndarray:
+        solved.append(f.shape[0])
+        return solver.sweep_interpolated(f)
+
+    full = solver.sweep_interpolated(freqs)
+    fast = predict.zin_resampled(sweep, freqs)
+    db = lambda z: 20 * np.log10(np.abs(predict.s11_from_zin(z)))  # noqa: E731
+    assert solved == [predict.RESAMPLE_POINTS]
+    assert np.max(np.abs(db(fast) - db(full))) < RESAMPLE_DB_TOL
+    assert predict.min_s11_frequency_hz(freqs, predict.s11_from_zin(fast)) == pytest.approx(
+        predict.min_s11_frequency_hz(freqs, predict.s11_from_zin(full)), rel=1e-4)
+
+
+def test_short_sweeps_are_solved_point_by_point() -> None:
+    freqs = np.linspace(2.0e9, 2.9e9, 2 * predict.RESAMPLE_POINTS - 1)
+    assert predict.resampled_points(freqs) is None
+    assert np.array_equal(predict.zin_resampled(lambda f: f + 0j, freqs), freqs + 0j)

@@ -56,6 +56,8 @@ def test_clean_example_has_no_violations() -> None:
         ({}, {"min_hole_to_hole_mm": 0.9}, "hole_to_hole"),
         ({}, {"min_clearance_mm": 0.6}, "hole_clearance"),
         ({"clearance__short_inset_mm": 0.45}, {}, "keepout_margin"),
+        # 0402 lands: the two shunt places' pads are 1.0 - 0.6 = 0.4 mm apart
+        ({"matching_network": {"network": "pi", "package": "0402"}}, {"min_clearance_mm": 0.45}, "matching_pad_clearance"),
     ],
 )
 def test_each_rule_reports_its_fault(changes: dict, fab_changes: dict, rule: str) -> None:
@@ -75,7 +77,7 @@ def test_each_rule_reports_its_fault(changes: dict, fab_changes: dict, rule: str
 
 def test_every_rule_has_a_fault_test() -> None:
     tested = {"trace_width", "copper_clearance", "ground_edge_distance", "pad_clearance", "copper_to_edge", "via_drill",
-              "annular_ring", "hole_to_hole", "hole_clearance", "keepout_margin"}
+              "annular_ring", "hole_to_hole", "hole_clearance", "keepout_margin", "matching_pad_clearance"}
     assert set(RULES) == tested
 
 

@@ -26,6 +26,7 @@ from footgen.spec import load_spec
 
 HERE = Path(__file__).resolve().parent
 SPEC = HERE.parent / "soil-probe-2g4.json"
+DEMO_DATE = "2026-11-20"
 ENCLOSURE_EPS_R = 4.95
 R_FACTOR = 0.93
 X_OFFSET_OHM = 2.0
@@ -48,7 +49,8 @@ def main() -> None:
     comment = (
         "INVENTED DEMO DATA, not a measurement: footgen's MoM prediction of\n"
         f"examples/soil-probe-2g4.json with eps_r {ENCLOSURE_EPS_R}, R x {R_FACTOR}, +j{X_OFFSET_OHM:g} ohm\n"
-        f"and {NOISE} noise (a made-up plastic enclosure); see make_demo.py"
+        f"and {NOISE} noise (a made-up plastic enclosure); see make_demo.py\n"
+        f"measured {DEMO_DATE} (an invented date)"
     )
     write_s1p(HERE / "demo-2g4-enclosure.s1p", freqs, s11, comment, freq_unit="MHz")
 

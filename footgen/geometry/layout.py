@@ -15,6 +15,7 @@ from shapely.geometry.base import BaseGeometry
 
 from footgen.errors import InfeasibleSpecError, SpecError
 from footgen.geometry.ifa import IfaCopper, Trace
+from footgen.geometry.matching_pads import MatchingPads, matching_pads
 from footgen.geometry.registry import get_generator
 from footgen.spec import Spec
 
@@ -53,6 +54,8 @@ class PadShape:
     rotation_deg: int = 0
     #: For custom pads: the full copper outline (absolute coordinates).
     outline: Polygon | None = None
+    #: A land a part is soldered to (paste and mask opening), not bare antenna copper.
+    solderable: bool = False
 
     @property
     def polygon(self) -> BaseGeometry:
@@ -274,6 +277,10 @@ def canonical_layout(spec: Spec, sizing: Sizing) -> Layout:
     gx0, gx1 = ground_x_range_mm(spec, s)
     gap = feed.port_gap_mm
     notch = box(-pw / 2 - gap, -pl - gap, pw / 2 + gap, 0.0)
+    network = _matching_network(spec)
+    if network is not None:
+        pads += [PadShape(p.number, "smd", "rect", _center(p.rect), _size(p.rect), solderable=True) for p in network.pads]
+        notch = _network_notch(notch, network, gap)
     ground = box(gx0, -spec.ground_plane.length_mm, gx1, 0.0).difference(notch)
     keepouts = (
         KeepOut("antenna_clearance", clearance_box, no_tracks=True, no_vias=True, no_pour=True),
@@ -287,7 +294,7 @@ def canonical_layout(spec: Spec, sizing: Sizing) -> Layout:
     courtyard = box(cx0 - m, cy0 - m, cx1 + m, cy1 + m)
     fab_outline = clearance_box
     # Silkscreen: an arrow below the feed notch pointing at the feed, clear of all copper pads.
-    ty = -pl - gap - 0.4
+    ty = notch.bounds[1] - 0.4
     silk = (
         LineString([(-0.6, ty - 0.8), (0.0, ty), (0.6, ty - 0.8), (-0.6, ty - 0.8)]),
     )
@@ -317,6 +324,40 @@ def canonical_layout(spec: Spec, sizing: Sizing) -> Layout:
         feed_point=(0.0, 0.0),
         dims=dims,
     )
+
+
+def _matching_network(spec: Spec) -> "MatchingPads | None":
+    """The pads of the spec's ``matching_network`` section, if it has one."""
+    section = spec.raw.get("matching_network")
+    if section is None:
+        return None
+    return matching_pads(kind=section.get("network", "pi"), package=section.get("package", "0402"),
+                         feed_pad_width_mm=spec.feed.pad_width_mm, feed_pad_length_mm=spec.feed.pad_length_mm,
+                         min_clearance_mm=spec.fab.min_clearance_mm)
+
+
+def _network_notch(notch: Polygon, network: "MatchingPads", gap: float) -> Polygon:
+    """The feed notch grown to keep the pour ``gap`` from the network's RF pads, leaving its
+    ground pads outside so the pour joins them."""
+    grown = shapely.union_all([notch] + [p.buffer(gap, join_style="mitre") for p in network.rf()])
+    cut = grown.difference(shapely.union_all(network.ground()))
+    if isinstance(cut, Polygon):
+        return _orient_ccw(cut)
+    return _orient_ccw(max(cut.geoms, key=lambda g: g.intersection(notch).area))
+
+
+def _orient_ccw(poly: Polygon) -> Polygon:
+    return shapely.normalize(shapely.geometry.polygon.orient(poly, 1.0))
+
+
+def _center(rect: Polygon) -> tuple[float, float]:
+    x0, y0, x1, y1 = rect.bounds
+    return ((x0 + x1) / 2, (y0 + y1) / 2)
+
+
+def _size(rect: Polygon) -> tuple[float, float]:
+    x0, y0, x1, y1 = rect.bounds
+    return (x1 - x0, y1 - y0)
 
 
 def _single_polygon(geom: BaseGeometry) -> Polygon:

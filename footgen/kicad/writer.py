@@ -60,6 +60,10 @@ def _ring(poly: Polygon, dx: float = 0.0, dy: float = 0.0) -> list[Position]:
     return [_pos(x - dx, y - dy) for x, y in coords]
 
 
+#: Layers of a land a part is soldered to (the matching network's pads).
+SOLDERABLE_LAYERS = ("F.Cu", "F.Paste", "F.Mask")
+
+
 def _font() -> Effects:
     return Effects(font=Font(height=TEXT_SIZE_MM, width=TEXT_SIZE_MM, thickness=TEXT_THICKNESS_MM))
 
@@ -90,7 +94,8 @@ def _pad(pad: PadShape) -> Pad:
             customPadPrimitives=[primitive],
             **common,
         )
-    return Pad(type="smd", shape="rect", layers=["F.Cu"], zoneConnect=ZONE_CONNECT_SOLID, **common)
+    layers = SOLDERABLE_LAYERS if pad.solderable else ["F.Cu"]
+    return Pad(type="smd", shape="rect", layers=list(layers), zoneConnect=ZONE_CONNECT_SOLID, **common)
 
 
 def _keepout(name: str, poly: Polygon, *, no_tracks: bool, no_vias: bool, no_pour: bool, front_only: bool) -> Zone:

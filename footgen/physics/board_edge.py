@@ -18,14 +18,14 @@ Measured against openEMS (tests/fullwave, development case dev_straight_16 with 
 ending 2 mm and 15 mm beyond the copper): openEMS moved the resonance by 1.74 %, this model
 by 1.69 %.
 
-Numbers in, numbers out (SI); memoised on rounded arguments.  Estimates never replace
+Numbers in, numbers out (SI); memoised on rounded arguments (the memo can be handed between
+processes by the caller: :func:`solved_cross_sections`, :func:`add_solved`).  Estimates never replace
 measurement; radio products must meet local radio regulations and RF-exposure limits.
 """
 
 from __future__ import annotations
 
 import dataclasses
-import functools
 
 from footgen.errors import SolverError
 from footgen.physics.ifa import Laminate, PrintedIfa
@@ -43,8 +43,32 @@ HORIZONTAL_TOL_M = 1e-9
 MIN_GAP_M = 1e-6
 
 
-@functools.lru_cache(maxsize=1024)
+#: Solved cross-sections: (width, gap, eps_r, thickness, board gap) -> equivalent eps_r.  The
+#: caller may carry these between processes (:func:`solved_cross_sections`, :func:`add_solved`):
+#: each costs about a second of 2-D solves and depends only on these arguments and the code.
+_SOLVED: dict[tuple[float, float, float, float, float], float] = {}
+
+
+def solved_cross_sections() -> dict[tuple[float, float, float, float, float], float]:
+    """A copy of the equivalent permittivities solved (or added) so far in this process."""
+    return dict(_SOLVED)
+
+
+def add_solved(entries: dict[tuple[float, float, float, float, float], float]) -> None:
+    """Take equivalent permittivities solved earlier by this same code (keys as in
+    :func:`solved_cross_sections`)."""
+    for key, eps in entries.items():
+        _SOLVED.setdefault(tuple(float(v) for v in key), float(eps))
+
+
 def _equivalent_eps_r(width_m: float, gap_m: float, eps_r: float, thickness_m: float, board_gap_m: float) -> float:
+    key = (width_m, gap_m, eps_r, thickness_m, board_gap_m)
+    if key not in _SOLVED:
+        _SOLVED[key] = _solve_equivalent_eps_r(*key)
+    return _SOLVED[key]
+
+
+def _solve_equivalent_eps_r(width_m: float, gap_m: float, eps_r: float, thickness_m: float, board_gap_m: float) -> float:
     cap = strip_beside_ground_edge_board_capacitance_f_per_m
     c_air = cap(width_m, gap_m, 1.0, thickness_m, None)
     target = cap(width_m, gap_m, eps_r, thickness_m, board_gap_m) / c_air - 1.0

@@ -8,6 +8,7 @@ RF-exposure limits.
 
 from __future__ import annotations
 
+import math
 from collections.abc import Callable
 
 import numpy as np
@@ -22,12 +23,41 @@ RETURN_LOSS_LIMIT_DB = -10.0
 RESONANCE_COARSE_POINTS = 61
 RESONANCE_FINE_POINTS = 41
 MIN_INTERPOLATED_POINTS = 4  # fewer frequencies: full solves are cheaper than anchors
+#: Dense sweeps are solved at this many evenly spaced frequencies per RESAMPLE_SPAN of relative
+#: span (top over bottom frequency minus one) and Zin is interpolated in between by a cubic
+#: spline (real and imaginary parts).  On the bundled examples' +-20 % prediction sweeps, 41
+#: solved points against 201 solved points: |S11| within 0.001 dB (measured; checked in
+#: tests/test_predict.py).  Used only where it solves at most half the points asked for.
+RESAMPLE_POINTS = 41
+RESAMPLE_SPAN = 0.5
 
 
 def _sweep(solver: MomSolver, freqs_hz: np.ndarray, progress: Callable[[int, int], None] | None) -> np.ndarray:
     if freqs_hz.shape[0] < MIN_INTERPOLATED_POINTS:
         return solver.sweep_direct(freqs_hz, progress=progress)
     return solver.sweep_interpolated(freqs_hz, progress=progress)
+
+
+def resampled_points(freqs_hz: np.ndarray) -> int | None:
+    """Number of frequencies :func:`zin_resampled` solves for this sweep, or None when it solves
+    every one (short sweeps)."""
+    freqs = np.asarray(freqs_hz, float)
+    lo, hi = float(freqs.min()), float(freqs.max())
+    n = max(RESAMPLE_POINTS, math.ceil(RESAMPLE_POINTS * (hi / lo - 1.0) / RESAMPLE_SPAN)) if lo > 0.0 else freqs.shape[0]
+    return n if 2 * n <= freqs.shape[0] else None
+
+
+def zin_resampled(solve: Callable[[np.ndarray], np.ndarray], freqs_hz: np.ndarray) -> np.ndarray:
+    """``solve(freqs_hz)`` for a dense sweep: solved at :func:`resampled_points` evenly spaced
+    frequencies over its range, cubic spline in between (``solve`` itself for short sweeps)."""
+    freqs = np.asarray(freqs_hz, float)
+    n = resampled_points(freqs)
+    if n is None:
+        return np.asarray(solve(freqs), complex)
+    from scipy.interpolate import CubicSpline
+
+    grid = np.linspace(float(freqs.min()), float(freqs.max()), n)
+    return CubicSpline(grid, np.asarray(solve(grid), complex))(freqs)
 
 
 def _check_freqs(freqs_hz: np.ndarray) -> np.ndarray:
@@ -41,11 +71,14 @@ def zin_ohm(ifa: PrintedIfa, freqs_hz: np.ndarray, progress: Callable[[int, int]
     """Complex input impedance (ohm) of ``ifa`` at ``freqs_hz``; ``progress(done, total)`` optional.
 
     The wire model is segmented for the highest frequency; sweeps of >= 4 points use
-    impedance-matrix interpolation between anchor frequencies.
+    impedance-matrix interpolation between anchor frequencies; dense sweeps are solved on
+    fewer points and interpolated (:func:`zin_resampled`), with mixed-precision solves
+    (:func:`footgen.physics.mom.solve_refined`).
     """
     freqs = _check_freqs(freqs_hz)
-    solver = MomSolver(ifa_wire_model(ifa, float(freqs.max())))
-    return _sweep(solver, freqs, progress)
+    dense = resampled_points(freqs) is not None
+    solver = MomSolver(ifa_wire_model(ifa, float(freqs.max())), mixed_precision=dense)
+    return zin_resampled(lambda f: _sweep(solver, f, progress), freqs)
 
 
 def s11_from_zin(zin: np.ndarray, z0_ohm: float = Z0_DEFAULT_OHM) -> np.ndarray:

@@ -79,9 +79,22 @@ def place_footprint(board: "pcbnew.BOARD", plan_fp: dict, nets: dict[str, "pcbne
 
 
 def assign_nets(footprint: "pcbnew.FOOTPRINT", nets: dict[str, "pcbnew.NETINFO_ITEM"]) -> None:
-    """Pad 1 (feed) on the RF net, every pad 2 (short, shunt vias) on GND."""
-    for pad in footprint.Pads():
-        pad.SetNet(nets["rf"] if pad.GetNumber() == "1" else nets["gnd"])
+    """Pad 1 (feed) on the RF net, every pad 2 (short, shunt vias) on GND.  With matching pads
+    (a pad 3), the radio side (pad 3) takes the RF net and the antenna node (pad 1) a net of its
+    own (``nets["antenna"]``, else "<RF net>_ANT_NODE", added to the board)."""
+    pads = list(footprint.Pads())
+    roles = {"1": nets["rf"]}
+    if any(pad.GetNumber() == "3" for pad in pads):
+        antenna = nets.get("antenna")
+        if antenna is None:
+            board = footprint.GetBoard()
+            name = f"{nets['rf'].GetNetname()}_ANT_NODE"
+            antenna = board.FindNet(name) or pcbnew.NETINFO_ITEM(board, name)
+            if antenna.GetNetCode() <= 0:
+                board.Add(antenna)
+        roles = {"1": antenna, "3": nets["rf"]}
+    for pad in pads:
+        pad.SetNet(roles.get(pad.GetNumber(), nets["gnd"]))
 
 
 def _zone(board: "pcbnew.BOARD", layer_name: str, polygon: list[list[float]], net: "pcbnew.NETINFO_ITEM", plan: dict) -> None:

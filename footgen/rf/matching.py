@@ -1,8 +1,10 @@
 """Lumped matching networks: L- and pi-network synthesis and their response (numbers only).
 
 Networks are tuples of :class:`Part`, ordered from the source (the 50 ohm radio port) toward the
-load (the antenna).  Parts are ideal: part Q, parasitics and self-resonance are ignored, so a
-real network built from these values will differ; estimates never replace measurement.
+load (the antenna).  The closed forms give ideal parts; :func:`plan_match` snaps them to a
+preferred series, keeps only networks whose parts exist as 0402/0603 RF parts and computes the
+response with each part's parasitics (:mod:`footgen.rf.parts`).  Estimates never replace
+measurement.
 """
 
 from __future__ import annotations
@@ -14,7 +16,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from footgen.errors import SpecError
-from footgen.rf import eseries
+from footgen.rf import eseries, parts as chip
 
 R0_OHM = 50.0
 # A reactance below this fraction of R0 (or a susceptance below it times 1/R0) is no part at all:
@@ -33,21 +35,28 @@ SHUNT = "shunt"
 
 @dataclass(frozen=True)
 class Part:
-    """One ideal lumped part: ``kind`` "L" (``value`` in H) or "C" (``value`` in F), placed
-    ``"series"`` in the signal path or ``"shunt"`` to ground."""
+    """One lumped part: ``kind`` "L" (``value`` in H) or "C" (``value`` in F), placed
+    ``"series"`` in the signal path or ``"shunt"`` to ground; ideal when ``package`` is None,
+    else a chip part of that size with its parasitics (:data:`footgen.rf.parts.PACKAGES`)."""
 
     placement: str
     kind: str
     value: float
+    package: str | None = None
 
     @property
     def unit(self) -> str:
         return _UNIT[self.kind]
 
+    def value_text(self) -> str:
+        """The value as engineers read it on a part: capacitors in pF, inductors in nH."""
+        scale, unit = _DISPLAY[self.kind]
+        return f"{self.value / scale:.3g} {unit}"
+
     def describe(self) -> str:
-        """Short label such as ``series L 38.98 nH``."""
-        scaled, prefix = _engineering(self.value)
-        return f"{self.placement} {self.kind} {scaled:.4g} {prefix}{self.unit}"
+        """Short label such as ``series L 39 nH`` (``... (0402)`` for a chip part)."""
+        size = f" ({self.package})" if self.package else ""
+        return f"{self.placement} {self.kind} {self.value_text()}{size}"
 
 
 @dataclass(frozen=True)
@@ -100,14 +109,7 @@ class PiMatch:
 
 
 _UNIT = {"L": "H", "C": "F"}
-_PREFIXES = ((1e-15, "f"), (1e-12, "p"), (1e-9, "n"), (1e-6, "u"), (1e-3, "m"), (1.0, ""))
-
-
-def _engineering(value: float) -> tuple[float, str]:
-    for scale, prefix in reversed(_PREFIXES):
-        if abs(value) >= scale:
-            return value / scale, prefix
-    return value / _PREFIXES[0][0], _PREFIXES[0][1]
+_DISPLAY = {"L": (1e-9, "nH"), "C": (1e-12, "pF")}
 
 
 # ----------------------------------------------------------------------------- closed forms
@@ -299,9 +301,10 @@ def pi_networks(
     return tuple(solutions)
 
 
-def snap_parts(parts: tuple[Part, ...], series: str = "E24") -> tuple[Part, ...]:
-    """The same network with every value snapped to the nearest ``series`` value (IEC 60063)."""
-    return tuple(Part(p.placement, p.kind, eseries.snap(p.value, series)) for p in parts)
+def snap_parts(parts: tuple[Part, ...], series: str = "E24", package: str | None = None) -> tuple[Part, ...]:
+    """The same network with every value snapped to the nearest ``series`` value (IEC 60063),
+    as chip parts of ``package`` (None: ideal parts)."""
+    return tuple(Part(p.placement, p.kind, eseries.snap(p.value, series), package) for p in parts)
 
 
 # ----------------------------------------------------------------------------- response
@@ -336,6 +339,13 @@ _PLACEMENT_ABCD: dict[str, Callable[[np.ndarray], np.ndarray]] = {
 }
 
 
+def _package(name: str) -> chip.Package:
+    try:
+        return chip.PACKAGES[name]
+    except KeyError:
+        raise SpecError("package", name, f"use one of {', '.join(chip.PACKAGES)}") from None
+
+
 def network_abcd(freq_hz: np.ndarray, parts: tuple[Part, ...]) -> np.ndarray:
     """Cascaded ABCD matrices (shape ``(n, 2, 2)``) of ideal parts, source -> load."""
     f = np.asarray(freq_hz, dtype=float)
@@ -346,7 +356,10 @@ def network_abcd(freq_hz: np.ndarray, parts: tuple[Part, ...]) -> np.ndarray:
     for part in parts:
         if part.kind not in _PART_IMPEDANCE or part.placement not in _PLACEMENT_ABCD:
             raise SpecError("part", part, "kind must be 'L' or 'C', placement 'series' or 'shunt'")
-        z_part = _PART_IMPEDANCE[part.kind](omega, part.value)
+        if part.package is None:
+            z_part = _PART_IMPEDANCE[part.kind](omega, part.value)
+        else:
+            z_part = chip.impedance_ohm(omega, part.kind, part.value, _package(part.package))
         total = total @ _PLACEMENT_ABCD[part.placement](z_part)
     return total
 
@@ -374,102 +387,16 @@ def network_s11(
     z_load_ohm: complex | np.ndarray,
     z0_ohm: float = R0_OHM,
 ) -> np.ndarray:
-    """S11(f) into ``z0_ohm`` of the ideal network ``parts`` (source -> load) ending in the load
-    (a constant or one impedance per frequency).  Part Q and self-resonance are ignored."""
+    """S11(f) into ``z0_ohm`` of the network ``parts`` (source -> load) ending in the load
+    (a constant or one impedance per frequency); chip parts with their parasitics."""
     return reflection_coefficient(input_impedance_ohm(freq_hz, parts, z_load_ohm), z0_ohm)
 
 
-# ----------------------------------------------------------------------------- plan
-
-#: Loaded Q of the listed pi networks, raised to 1.5 times the load's minimum when that is
-#: higher (common practice, no source: a Q of a few keeps the pi's bandwidth usable).
-DEFAULT_PI_Q = 2.0
-PI_Q_OVER_MINIMUM = 1.5
-#: Worst in-band |S11| values closer than this count as equal and fewer parts then win: each
-#: extra network must buy at least this much (dB; common practice, no source).
-EQUAL_WORST_DB = 1.0
-
-
-@dataclass(frozen=True)
-class MatchCandidate:
-    """One network with its parts snapped to a preferred series and its response across the
-    sweep (S11 against ``r0_ohm`` of the antenna seen through the snapped parts)."""
-
-    label: str
-    ideal_parts: tuple[Part, ...]
-    parts: tuple[Part, ...]
-    s11: np.ndarray
-    s11_db_at_f0: float
-    worst_s11_db_in_band: float
-
-    def describe(self) -> str:
-        return f"{self.label}: " + (", ".join(p.describe() for p in self.parts) or "direct connection")
-
-
-@dataclass(frozen=True)
-class MatchPlan:
-    """L and pi networks for a load known over a sweep, snapped to ``series``; ``chosen`` is
-    the index of the candidate with the best worst-case |S11| in the band."""
-
-    f0_hz: float
-    z_at_f0_ohm: complex
-    band_hz: tuple[float, float]
-    series: str
-    freq_hz: np.ndarray
-    z_load_ohm: np.ndarray
-    candidates: tuple[MatchCandidate, ...]
-    chosen: int
-
-    @property
-    def best(self) -> MatchCandidate:
-        return self.candidates[self.chosen]
-
-
-def _interp_complex(freq_hz: np.ndarray, values: np.ndarray, f0_hz: float) -> complex:
-    return complex(np.interp(f0_hz, freq_hz, values.real), np.interp(f0_hz, freq_hz, values.imag))
-
-
-def _db(gamma: np.ndarray) -> np.ndarray:
-    return 20.0 * np.log10(np.maximum(np.abs(gamma), 1e-15))
-
-
-def plan_match(
-    freq_hz: np.ndarray,
-    z_load_ohm: np.ndarray,
-    f0_hz: float,
-    *,
-    band_hz: tuple[float, float] | None = None,
-    series: str = "E24",
-    pi_q: float | None = None,
-    r0_ohm: float = R0_OHM,
-) -> MatchPlan:
-    """List the direct connection, every L network and the pi networks (loaded Q ``pi_q``,
-    default as :data:`DEFAULT_PI_Q`) for the load ``z_load_ohm(freq_hz)`` matched at ``f0_hz``,
-    with parts snapped to ``series``, and their S11 across the sweep.  ``band_hz`` (default:
-    f0 alone) is where the worst |S11| is judged to choose one."""
-    f = np.asarray(freq_hz, dtype=float)
-    z = np.asarray(z_load_ohm, dtype=complex)
-    if f.ndim != 1 or z.shape != f.shape or f.size < 2 or np.any(np.diff(f) <= 0):
-        raise SpecError("freq_hz", "array", "give rising frequencies and one load impedance for each")
-    if not (f[0] <= f0_hz <= f[-1]):
-        raise SpecError("f0_hz", f0_hz, f"must lie inside the sweep {f[0] / 1e6:.6g} .. {f[-1] / 1e6:.6g} MHz")
-    lo, hi = band_hz if band_hz is not None else (f0_hz, f0_hz)
-    z0 = _check_load(_interp_complex(f, z, f0_hz))
-    q = pi_q if pi_q is not None else max(DEFAULT_PI_Q, PI_Q_OVER_MINIMUM * minimum_pi_q(z0, r0_ohm))
-    networks: list[tuple[str, tuple[Part, ...]]] = [("direct", ())]
-    networks += [(f"L {m.topology}", m.parts) for m in l_networks(z0, f0_hz, r0_ohm)]
-    networks += [(f"pi Q {m.q_loaded:.3g}", m.parts) for m in pi_networks(z0, f0_hz, q, r0_ohm)]
-    in_band = (f >= lo) & (f <= hi)
-    candidates = []
-    for label, ideal in networks:
-        parts = snap_parts(ideal, series)
-        s11 = network_s11(f, parts, z, r0_ohm)
-        at_f0 = float(_db(np.array([_interp_complex(f, s11, f0_hz)]))[0])
-        worst = float(np.max(_db(s11[in_band]))) if np.any(in_band) else at_f0
-        candidates.append(MatchCandidate(label, ideal, parts, s11, at_f0, max(worst, at_f0)))
-    best = min(candidates, key=lambda c: c.worst_s11_db_in_band)
-    chosen = min(
-        (i for i, c in enumerate(candidates) if c.worst_s11_db_in_band <= best.worst_s11_db_in_band + EQUAL_WORST_DB),
-        key=lambda i: (len(candidates[i].parts), candidates[i].worst_s11_db_in_band),
-    )
-    return MatchPlan(float(f0_hz), z0, (float(lo), float(hi)), series, f, z, tuple(candidates), chosen)
+def network_loss_db(freq_hz: np.ndarray, parts: tuple[Part, ...], z_load_ohm: complex | np.ndarray) -> np.ndarray:
+    """Power lost in the network (dB): power into its input over power reaching the load,
+    from the ABCD matrix with the load current set to 1 A (V_in = A Z_L + B, I_in = C Z_L + D)."""
+    abcd = network_abcd(freq_hz, parts)
+    z_l = np.broadcast_to(np.asarray(z_load_ohm, dtype=complex), abcd.shape[:-2])
+    v_in = abcd[..., 0, 0] * z_l + abcd[..., 0, 1]
+    i_in = abcd[..., 1, 0] * z_l + abcd[..., 1, 1]
+    return 10.0 * np.log10(np.real(v_in * np.conj(i_in)) / np.real(z_l))

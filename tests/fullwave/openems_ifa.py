@@ -81,6 +81,8 @@ PML_CELLS = 8
 EXCITATION_FC_FRACTION = 0.5
 N_FREQ_POINTS = 601
 NUM_THREADS = 1
+# annealed copper (IEC 60028 standard, from memory), for the radiation runs' conducting sheets
+COPPER_CONDUCTIVITY_S_PER_M = 5.8e7
 SIM_ROOT = Path("/tmp/footgen_openems")
 
 
@@ -284,8 +286,15 @@ class _StdoutToFile:
         self.tail.wait()
 
 
-def solve_case(case: dict[str, Any], level: str, keep: bool = False) -> dict[str, Any]:
-    """Build and run the openEMS model of one case; return the result record (JSON-ready)."""
+def solve_case(case: dict[str, Any], level: str, keep: bool = False,
+               radiation_freqs_hz: list[float] | None = None) -> dict[str, Any]:
+    """Build and run the openEMS model of one case; return the result record (JSON-ready).
+
+    With ``radiation_freqs_hz`` the copper is a conducting sheet (annealed copper conductivity,
+    the laminate's copper thickness) instead of PEC, a near-field box records E and H at those
+    frequencies, and the record gets a ``radiation`` entry from openEMS's near-to-far-field
+    transform (see ``radiation.py``).
+    """
     ContinuousStructure, OpenEms = _import_openems()
     ifa = case_to_ifa(case)
     name = case["name"]
@@ -314,7 +323,11 @@ def solve_case(case: dict[str, Any], level: str, keep: bool = False) -> dict[str
     substrate = csx.AddMaterial("laminate", epsilon=lam.eps_r, kappa=kappa)
     bx0, by0, bx1, by1 = board_extent_m(ifa, case["board_margin_mm"] * 1e-3)
     substrate.AddBox([bx0, by0, -lam.thickness_m], [bx1, by1, 0.0], priority=0)
-    copper = csx.AddMetal("copper")
+    if radiation_freqs_hz:
+        copper = csx.AddConductingSheet("copper", conductivity=COPPER_CONDUCTIVITY_S_PER_M,
+                                        thickness=lam.copper_thickness_m)
+    else:
+        copper = csx.AddMetal("copper")
     g = ifa.ground
     copper.AddBox([g.x_min_m, -g.length_m, 0.0], [g.x_max_m, 0.0, 0.0], priority=10)
     for x0, y0, x1, y1 in copper_boxes_m(ifa):
@@ -324,7 +337,13 @@ def solve_case(case: dict[str, Any], level: str, keep: bool = False) -> dict[str
                               [ifa.feed_x_m - half, 0.0, 0.0],
                               [ifa.feed_x_m + half, ifa.port_gap_m, 0.0], "y", 1.0, priority=20)
 
-    sim_path = SIM_ROOT / f"{name}_{level}"
+    nf2ff_box = None
+    if radiation_freqs_hz:
+        from radiation import add_nf2ff_box
+        nf2ff_box = add_nf2ff_box(fdtd, (bx0, by0, -lam.thickness_m, bx1, by1, 0.0),
+                                  float(mesh["air_margin_m"]), radiation_freqs_hz)
+
+    sim_path = SIM_ROOT / f"{name}_{level}{'_rad' if radiation_freqs_hz else ''}"
     if sim_path.exists():
         shutil.rmtree(sim_path)
     sim_path.mkdir(parents=True)
@@ -351,11 +370,20 @@ def solve_case(case: dict[str, Any], level: str, keep: bool = False) -> dict[str
     s11 = port.uf_ref / port.uf_inc
     zin = port.uf_tot / port.if_tot
     derived = derived_figures(freqs, s11, zin)
+    radiation = None
+    if nf2ff_box is not None:
+        from radiation import far_field_summary
+        f_rad = np.array(radiation_freqs_hz, dtype=float)
+        port.CalcPort(str(sim_path), f_rad)
+        p_acc = np.asarray(port.P_acc, dtype=float)
+        radiation = far_field_summary(nf2ff_box, str(sim_path), f_rad, p_acc,
+                                      port.uf_ref / port.uf_inc)
+        port.CalcPort(str(sim_path), freqs)
     log(f"{name}/{level}: f_res {derived['f_res_hz'] / 1e6:.1f} MHz, "
         f"S11 min {derived['s11_min_db']:.2f} dB, band {derived['band_10db_hz']}")
     if not keep:
         shutil.rmtree(sim_path)
-    return {
+    record = {
         "case": case,
         "source": f"openEMS (Debian package openems {openems_package_version()}), FDTD",
         "mesh_level": level,
@@ -398,6 +426,12 @@ def solve_case(case: dict[str, Any], level: str, keep: bool = False) -> dict[str
         "zin_re": zin.real.tolist(),
         "zin_im": zin.imag.tolist(),
     }
+    if radiation is not None:
+        record["settings"]["copper"] = (
+            f"conducting sheets at z=0, conductivity {COPPER_CONDUCTIVITY_S_PER_M:g} S/m, "
+            f"thickness {lam.copper_thickness_m * 1e3:g} mm")
+        record["radiation"] = radiation
+    return record
 
 
 # --- post-processing ------------------------------------------------------------------------
@@ -451,8 +485,18 @@ def main(argv: list[str] | None = None) -> int:
     parser.add_argument("--suffix", default="", help="appended to the result file name")
     parser.add_argument("--keep", action="store_true", help="keep the openEMS run directory")
     parser.add_argument("--mesh-only", action="store_true", help="print mesh sizes, no solve")
+    parser.add_argument("--radiation-mhz", type=float, action="append",
+                        help="near-to-far-field transform at this frequency (repeatable); "
+                             "copper becomes a lossy conducting sheet")
+    parser.add_argument("--end-criterion", type=float, default=END_CRITERION,
+                        help="energy decay that ends the run (recorded in the result)")
+    parser.add_argument("--loss-tangent", type=float, default=None,
+                        help="diagnostic: replace the laminate's loss tangent (recorded in the case)")
     args = parser.parse_args(argv)
+    globals()["END_CRITERION"] = args.end_criterion
     cases = load_cases() if args.all else [case_by_name(n) for n in args.case]
+    if args.loss_tangent is not None:
+        cases = [{**c, "laminate": {**c["laminate"], "loss_tangent": args.loss_tangent}} for c in cases]
     args.out = args.out.resolve()
     args.out.mkdir(parents=True, exist_ok=True)
     for case in cases:
@@ -463,7 +507,8 @@ def main(argv: list[str] | None = None) -> int:
                 f"{m['z'].size - 1} = {cells} cells; max ratio "
                 f"{max(max_ratio(m[k]) for k in 'xyz'):.3f}")
             continue
-        record = solve_case(case, args.mesh, keep=args.keep)
+        rad = [f * 1e6 for f in args.radiation_mhz] if args.radiation_mhz else None
+        record = solve_case(case, args.mesh, keep=args.keep, radiation_freqs_hz=rad)
         path = args.out / f"{case['name']}{args.suffix}.json"
         with open(path, "w", encoding="utf-8") as handle:
             json.dump(record, handle, indent=1)

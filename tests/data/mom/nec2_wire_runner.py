@@ -61,3 +61,19 @@ def nec2_zin_uniform_ohm(model: WireModel, f_start_hz: float, f_step_hz: float, 
     ctx.fr_card(0, n_freqs, f_start_hz / HZ_PER_MHZ, f_step_hz / HZ_PER_MHZ)
     ctx.xq_card(0)
     return np.array([ctx.get_input_parameters(i).get_impedance()[0] for i in range(n_freqs)])
+
+
+def nec2_power_gain_dbi(model: WireModel, freq_hz: float, theta_deg: np.ndarray, phi_deg: np.ndarray) -> np.ndarray:
+    """nec2++ power gain (dBi, relative to the input power) on the grid ``theta_deg`` x ``phi_deg``
+    (uniform steps, free space, one RP card) -> (theta, phi)."""
+    ctx = _context(model)
+    ctx.fr_card(0, 1, freq_hz / HZ_PER_MHZ, 0.0)
+    theta = np.asarray(theta_deg, float)
+    phi = np.asarray(phi_deg, float)
+    d_theta = float(theta[1] - theta[0]) if theta.size > 1 else 0.0
+    d_phi = float(phi[1] - phi[0]) if phi.size > 1 else 0.0
+    # normal mode, power gain (XNDA = 0000), no averaging
+    ctx.rp_card(0, theta.size, phi.size, 0, 0, 0, 0, float(theta[0]), float(phi[0]), d_theta, d_phi, 0.0, 0.0)
+    pattern = ctx.get_radiation_pattern(0)
+    gain = np.asarray(pattern.get_gain(), float)
+    return gain.reshape(theta.size, phi.size) if gain.size == theta.size * phi.size else gain

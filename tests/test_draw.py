@@ -1,0 +1,262 @@
+"""The copper drawing: labels never overlap, every sizing number is dimensioned, KiCad's frame,
+violation markers, SVG without a plotting library, PNG only when asked; S11 markers and the
+Smith chart's values."""
+
+from __future__ import annotations
+
+import copy
+import itertools
+import subprocess
+import sys
+import xml.etree.ElementTree as ET
+from pathlib import Path
+
+import numpy as np
+import pytest
+from hypothesis import given
+
+from footgen import canvas
+from footgen.build import run
+from footgen.draw import drawing, rotation_of
+from footgen.geometry.layout import Sizing, build_layout
+from footgen.rules import check
+from footgen.spec import load_spec, parse_spec
+
+from conftest import EXAMPLES, ROOT, TEMPLATES, load_json
+from test_geometry import PROPERTY_SETTINGS, layouts
+
+SPECS = EXAMPLES + TEMPLATES
+_BUILT: dict[Path, object] = {}
+
+
+def built(path: Path):
+    """One build per spec for the whole module (sizing is the slow part)."""
+    if path not in _BUILT:
+        _BUILT[path] = run(load_spec(path))
+    return _BUILT[path]
+
+
+def assert_labels_clear(cv: canvas.Canvas) -> None:
+    boxes = [(t.text, t.box) for t in cv.texts]
+    assert boxes
+    for (ta, a), (tb, b) in itertools.combinations(boxes, 2):
+        assert not a.intersects(b), f"{ta!r} overlaps {tb!r}"
+    for text, b in boxes:
+        assert b.inside(cv.bounds), f"{text!r} leaves the canvas"
+
+
+@pytest.mark.parametrize("spec_path", SPECS, ids=[f"{p.parent.name}/{p.stem}" for p in SPECS])
+def test_no_two_labels_overlap_and_none_leaves_the_canvas(spec_path: Path) -> None:
+    result = built(spec_path)
+    assert_labels_clear(drawing(result.layout, result.spec.name, result.spec.target.label, result.violations))
+
+
+@pytest.mark.parametrize("spec_path", SPECS, ids=[f"{p.parent.name}/{p.stem}" for p in SPECS])
+def test_every_sizing_number_is_dimensioned(spec_path: Path) -> None:
+    result = built(spec_path)
+    d, spec = result.layout.dims, result.spec
+    texts = [t.text for t in drawing(result.layout, spec.name, "", result.violations).texts]
+    labels = "\n".join(texts)
+    expected = [
+        f"feed tap {d['feed_short_spacing_mm']:.2f}",
+        f"height {d['arm_height_mm']:.2f}",
+        f"clearance area width {d['clearance_width_mm']:.2f}",
+        f"depth {d['clearance_depth_mm']:.2f}",
+        f"trace {d['trace_width_mm']:.2f}",
+        f"arm {d['arm_length_mm']:.2f}",
+        "inset ",
+        f"pad 1 (feed) {spec.feed.pad_width_mm:.2f} wide x {spec.feed.pad_length_mm:.2f} long, port gap {spec.feed.port_gap_mm:.2f}",
+        "pad 2 (ground)",
+        "board edge",
+        "KiCad footprint frame, mm, y down, origin at the feed point",
+    ]
+    if spec.clearance.edge_distance_mm > 0:
+        expected.append(f"edge {spec.clearance.edge_distance_mm:.2f}")
+    if d["meander_turns"]:
+        expected += [f"pitch {result.layout.copper.meander_pitch_mm:.2f}", "meander height "]
+    if spec.style.meander_height_mm is not None and d["meander_turns"] > 1:
+        expected.append(f"meander height {spec.style.meander_height_mm:.2f}")
+    missing = [e for e in expected if e not in labels]
+    assert not missing, missing
+    rotation = spec.output.rotation_deg
+    assert (f"rotated {rotation} deg counter-clockwise" in labels) == (rotation != 0)
+
+
+@PROPERTY_SETTINGS
+@given(layouts())
+def test_labels_stay_clear_on_any_layout_and_the_rotation_is_read_back(case) -> None:
+    spec, layout, _ = case
+    assert rotation_of(layout) == spec.output.rotation_deg
+    violations = check(layout, spec.fab)
+    cv = drawing(layout, spec.name, spec.target.label, violations)
+    assert_labels_clear(cv)
+
+
+def _soil_with(tmp_changes: dict):
+    data = copy.deepcopy(load_json(ROOT / "examples" / "soil-probe-2g4.json"))
+    for key, value in tmp_changes.items():
+        data[key] = value
+    spec = parse_spec(data)
+    return spec, build_layout(spec, Sizing(18.0, 5.3, 1.9, "explicit"))
+
+
+def test_violations_are_marked_numbered_and_listed() -> None:
+    spec, layout = _soil_with({"short": {"via_drill_mm": 0.2, "via_count": 2}, "trace_width_mm": 0.1})
+    violations = check(layout, spec.fab)
+    assert len(violations) >= 2  # via drill and trace width
+    cv = drawing(layout, spec.name, "", violations)
+    assert_labels_clear(cv)
+    rings = [i for i in cv.items if isinstance(i, canvas.Circle) and i.stroke == "#c53030"]
+    assert len(rings) == len(violations) + 1  # one per violation, one in the legend
+    texts = [t.text for t in cv.texts]
+    for n, v in enumerate(violations, start=1):
+        assert any(t.startswith(f"{n}. {v.rule}: ") for t in texts)
+    assert "rule violation" in texts
+    clean = drawing(layout, spec.name, "", ())
+    assert "Rule check: no violations against the fab profile." in [t.text for t in clean.texts]
+
+
+def test_feed_point_is_the_origin_and_kicad_y_points_down() -> None:
+    spec, layout = _soil_with({})
+    cv = drawing(layout, spec.name, "", ())
+    # the arm lies above the ground edge on screen: KiCad y (down) is negative for the copper
+    rings = sorted((i for i in cv.items if isinstance(i, canvas.Circle) and i.r == 4.0), key=lambda c: c.cy)
+    assert len(rings) == 2  # the axes glyph in the title band, the origin in the copper view
+    glyph, origin = rings
+    copper = next(i for i in cv.items if isinstance(i, canvas.Shape) and i.fill == "#d9822b")
+    assert min(y for _, y in copper.points) < origin.cy - 50  # the arm is drawn above the feed point
+    assert min(x for x, _ in copper.points) < origin.cx < max(x for x, _ in copper.points)
+    labels = [t for t in cv.texts if t.text in ("+x", "+y")]
+    plus_x, plus_y = sorted(labels, key=lambda t: t.text)
+    assert plus_x.x > glyph.cx and plus_y.y > glyph.cy  # x right, y down
+
+
+def test_text_width_table_never_underestimates_the_font() -> None:
+    """Checked against DejaVu Sans itself (the font the SVG names first and the PNG renders)."""
+    from PIL import ImageFont
+
+    font = ImageFont.truetype(canvas.font_path(), 1000)
+    for char, em in canvas.CHAR_WIDTH_EM.items():
+        measured = font.getlength(char) / 1000
+        assert measured <= em + 1e-9, char
+        assert em - measured < 0.011, char  # rounded up to 0.01 em, no more
+    label = "clearance area width 70.00"
+    assert font.getlength(label) / 1000 * 12 <= canvas.text_width(label, 12)
+
+
+def test_svg_is_plain_xml_with_explicit_fonts_and_no_plotting_library(tmp_path: Path) -> None:
+    code = (
+        "import sys, json\n"
+        "from footgen.build import run\n"
+        "from footgen.draw import drawing\n"
+        "from footgen.geometry.layout import Sizing, build_layout\n"
+        "from footgen.spec import load_spec\n"
+        f"spec = load_spec({str(ROOT / 'examples' / 'soil-probe-2g4.json')!r})\n"
+        "svg = drawing(build_layout(spec, Sizing(18.0, 5.3, 1.9, 'explicit')), spec.name, '').svg()\n"
+        f"open({str(tmp_path / 'a.svg')!r}, 'wb').write(svg)\n"
+        "print(json.dumps(sorted(m for m in ('matplotlib', 'PIL') if m in sys.modules)))\n"
+    )
+    proc = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert proc.stdout.strip() == "[]"
+    root = ET.fromstring((tmp_path / "a.svg").read_bytes())
+    assert "DejaVu Sans" in root.get("font-family")
+    texts = root.findall("{http://www.w3.org/2000/svg}text")
+    assert texts and all(float(t.get("font-size")) >= 11 for t in texts)
+
+
+def test_png_is_rasterised_only_when_asked(monkeypatch: pytest.MonkeyPatch) -> None:
+    from footgen.build import BuildResult, output_files
+
+    data = load_json(ROOT / "examples" / "soil-probe-2g4.json")
+    data["output"] = {"drawing_png": False}
+    spec = parse_spec(data)
+    layout = build_layout(spec, Sizing(18.0, 5.3, 1.9, "explicit"))
+    result = BuildResult(spec, Sizing(18.0, 5.3, 1.9, "explicit"), layout, ())
+
+    def refuse(self):
+        raise AssertionError("PNG rendered although drawing_png is false")
+
+    monkeypatch.setattr(canvas.Canvas, "png", refuse)
+    files = output_files(result, include_footprint=False)
+    assert f"{spec.name}.svg" in files and f"{spec.name}.png" not in files
+
+
+def test_png_bytes_are_stable_and_a_real_png() -> None:
+    spec, layout = _soil_with({})
+    a = drawing(layout, spec.name, "").png()
+    b = drawing(layout, spec.name, "").png()
+    assert a == b and a[:8] == b"\x89PNG\r\n\x1a\n"
+
+
+# --------------------------------------------------------------------------------- S11, Smith
+
+
+def _series_rlc_s11(f: np.ndarray, f0: float, q: float, z0: float = 50.0) -> np.ndarray:
+    """A series RLC with R = Z0: Zin = R (1 + j Q (f/f0 - f0/f)) (circuit algebra)."""
+    z = z0 * (1 + 1j * q * (f / f0 - f0 / f))
+    return (z - z0) / (z + z0)
+
+
+def test_s11_markers_find_resonance_band_edges_and_worst_in_band() -> None:
+    from footgen.plots import s11_markers
+
+    f0, q = 433.9e6, 40.0
+    f = np.linspace(380e6, 490e6, 2201)
+    s11 = _series_rlc_s11(f, f0, q)
+    markers = {kind: [] for kind in ("resonance", "edge", "worst")}
+    for kind, freq, level, _ in s11_markers(f, s11, (433.05e6, 434.79e6)):
+        markers[kind].append((freq, level))
+    (f_res, _), = markers["resonance"]
+    assert abs(f_res - f0) < 0.5 * (f[1] - f[0])
+    # |S11| = -10 dB where |Gamma|^2 = 0.1: with Gamma = jX/(2R + jX), X = 2R/3, i.e.
+    # Q (f/f0 - f0/f) = +-2/3 (circuit algebra, no outside source)
+    for (edge, level), sign in zip(sorted(markers["edge"]), (-1.0, 1.0)):
+        a = sign * 2.0 / 3.0 / q
+        exact = f0 * (a + np.sqrt(a * a + 4)) / 2
+        assert abs(edge - exact) < 0.5 * (f[1] - f[0]) and level == -10.0
+    (f_worst, worst), = markers["worst"]
+    assert f_worst in (f[f >= 433.05e6][0], f[f <= 434.79e6][-1])
+    inside = (f >= 433.05e6) & (f <= 434.79e6)
+    assert worst == pytest.approx(20 * np.log10(np.maximum(np.abs(s11[inside]), 1e-15)).max())
+
+
+def test_s11_plot_zooms_on_the_band() -> None:
+    from footgen.plots import s11_figure
+
+    f = np.linspace(325e6, 542e6, 201)
+    fig = s11_figure("t", (433.05e6, 434.79e6), [(f, _series_rlc_s11(f, 434e6, 30.0), {"label": "predicted"})])
+    full, zoom = fig.axes
+    lo, hi = zoom.get_xlim()
+    assert lo < 433.05 and hi > 434.79 and (hi - lo) < 0.1 * np.ptp(full.get_xlim())
+    labels = [t.get_text() for t in full.get_legend().get_texts()]
+    assert any(t.startswith("resonance ") for t in labels) and any(t.startswith("worst in band ") for t in labels)
+
+
+def test_smith_chart_circles_carry_their_values() -> None:
+    from matplotlib.figure import Figure
+
+    from footgen import loop_report
+
+    ax = Figure().add_subplot(1, 1, 1)
+    loop_report._smith_axes(ax)
+    texts = {t.get_text(): t.get_position() for t in ax.texts}
+    for r in loop_report.SMITH_R[1:]:
+        x, y = texts[f"{r:g}"]
+        assert x == pytest.approx((r - 1) / (r + 1)) and y == 0.0  # on its circle, on the real axis
+    for x in loop_report.SMITH_X:
+        for sign in ("+", "-"):
+            px, py = texts[f"{sign}j{x:g}"]
+            assert px * px + py * py == pytest.approx(1.09**2)  # just outside the rim, where the arc ends
+
+
+def test_predict_plot_is_deterministic_and_marks_the_resonance() -> None:
+    from footgen.prediction import Prediction, plot_s11
+
+    spec = load_spec(ROOT / "templates" / "ism-433-meander.json")
+    f = np.linspace(0.8 * spec.target.center_hz, 1.2 * spec.target.center_hz, 201)
+    s11 = _series_rlc_s11(f, spec.target.center_hz, 60.0)
+    prediction = Prediction(spec, "series RLC (test)", f, 50.0 * (1 + s11) / (1 - s11))
+    svg, png = plot_s11(prediction)
+    assert (svg, png) == plot_s11(prediction)
+    text = svg.decode("utf-8")
+    assert f"resonance {spec.target.center_hz / 1e6:.1f} MHz" in text and "(zoom)" in text and "worst in band" in text
