@@ -345,11 +345,15 @@ def testboard_cmd(
 
 
 def _register_loop_commands() -> None:
-    """retune, diff, match, report: the measure-and-retune loop (footgen.cli_rf)."""
+    """retune, diff, match, report: the measure-and-retune loop (footgen.cli_rf); sites: the
+    board placement core for the KiCad plugins (footgen.cli_place)."""
     from footgen import cli_rf
 
     for command in (cli_rf.retune_cmd, cli_rf.diff_cmd, cli_rf.match_cmd, cli_rf.report_cmd):
         main.add_command(command)
+    from footgen import cli_place
+
+    main.add_command(cli_place.sites_cmd)
 
 
 _register_loop_commands()

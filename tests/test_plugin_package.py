@@ -193,3 +193,64 @@ def test_metadata_validates_against_the_schema_kicad_9_ships(kicad, archive: Pat
     if not INSTALLED_SCHEMA.exists():
         pytest.fail(f"{INSTALLED_SCHEMA} missing although KiCad is installed")
     assert _errors(INSTALLED_SCHEMA, _metadata(archive)) == []
+
+
+# --- the IPC-API archive ---------------------------------------------------------------------
+
+#: Schemas each KiCad ships: KiCad 9.0.8 (Debian) and KiCad 10 (Debian sid, in the chroot
+#: scripts/install_kicad10.sh makes).
+KICAD10_SCHEMAS = Path(os.environ.get("FOOTGEN_KICAD10_ROOT", "/opt/footgen-kicad10")) / "usr/share/kicad/schemas"
+PCM_SCHEMAS = {"9": INSTALLED_SCHEMA, "10": KICAD10_SCHEMAS / "pcm.v2.schema.json"}
+API_SCHEMAS = {"9": Path("/usr/share/kicad/schemas/api.v1.schema.json"), "10": KICAD10_SCHEMAS / "api.v1.schema.json"}
+
+
+@pytest.fixture(scope="module")
+def ipc_archive(archive: Path) -> Path:
+    (path,) = archive.parent.glob("footgen-kicad-ipc-plugin-*.zip")
+    return path
+
+
+def _schema_or_skip(path: Path) -> Path:
+    if not path.exists():
+        if os.environ.get("CI", "").lower() == "true":
+            pytest.fail(f"{path} missing (KiCad not installed)")
+        pytest.skip(f"{path} missing (that KiCad is not installed here)")
+    return path
+
+
+def test_each_archive_declares_its_runtime(archive: Path, ipc_archive: Path) -> None:
+    """pcm schema: runtime "swig" (KiCad's Python loads the folder) or "ipc" (an API plugin)."""
+    assert [v["runtime"] for v in _metadata(archive)["versions"]] == ["swig"]
+    assert [v["runtime"] for v in _metadata(ipc_archive)["versions"]] == ["ipc"]
+    assert _metadata(archive)["identifier"] != _metadata(ipc_archive)["identifier"]
+
+
+def test_the_swig_archive_leaves_out_the_ipc_door_and_the_ipc_archive_has_its_entry_point(archive: Path, ipc_archive: Path) -> None:
+    with zipfile.ZipFile(archive) as zf:
+        assert "plugins/ipc_door.py" not in zf.namelist()
+    with zipfile.ZipFile(ipc_archive) as zf:
+        names = set(zf.namelist())
+        plugin = json.loads(zf.read("plugins/plugin.json"))
+        requirements = zf.read("plugins/requirements.txt").decode()
+    assert {f"plugins/{a['entrypoint']}" for a in plugin["actions"]} <= names
+    assert {f"plugins/{icon}" for a in plugin["actions"] for icon in a["icons-light"] + a["icons-dark"]} <= names
+    assert {"plugins/placement.py", "plugins/board_view.py", "plugins/cli_runner.py"} <= names  # shared code
+    assert requirements.split(">=")[0] == "kicad-python"
+    assert plugin["identifier"] == _metadata(ipc_archive)["identifier"]
+
+
+@pytest.mark.parametrize("kicad_version", sorted(PCM_SCHEMAS))
+def test_both_archives_validate_against_the_package_schema_each_kicad_ships(archive: Path, ipc_archive: Path, kicad_version: str) -> None:
+    schema = _schema_or_skip(PCM_SCHEMAS[kicad_version])
+    assert _errors(schema, _metadata(archive)) == []
+    assert _errors(schema, _metadata(ipc_archive)) == []
+
+
+@pytest.mark.parametrize("kicad_version", sorted(API_SCHEMAS))
+def test_plugin_json_validates_against_the_api_schema_each_kicad_ships(ipc_archive: Path, kicad_version: str) -> None:
+    schema = _schema_or_skip(API_SCHEMAS[kicad_version])
+    with zipfile.ZipFile(ipc_archive) as zf:
+        plugin = json.loads(zf.read("plugins/plugin.json"))
+    assert _errors(schema, plugin) == []
+    broken = dict(plugin, runtime={"type": "java"})
+    assert _errors(schema, broken)  # the check can fail

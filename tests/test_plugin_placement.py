@@ -379,7 +379,12 @@ def test_missing_footgen_command_explains_how_to_install(monkeypatch: pytest.Mon
     monkeypatch.setattr(cli_runner, "USER_BIN_DIRS", (tmp_path,))
     with pytest.raises(cli_runner.FootgenNotFound) as info:
         cli_runner.find_footgen()
-    assert "pip install" in str(info.value) and cli_runner.FOOTGEN_CMD_ENV in str(info.value)
+    text = str(info.value)
+    # footgen is on no package index: the help names pipx or the checkout's venv script, and
+    # where in KiCad the command's path is set
+    assert "pipx install <footgen checkout>" in text and "scripts/quickstart.sh" in text
+    assert "pip install footgen" not in text
+    assert f"{cli_runner.FOOTGEN_CMD_ENV} to the full command" in text and "Configure Paths" in text
 
 
 def test_a_footgen_command_that_does_not_exist_is_reported(monkeypatch: pytest.MonkeyPatch, tmp_path: Path) -> None:
@@ -470,11 +475,38 @@ seen = []
 # a native message box cannot be closed by the timer: record the text instead
 action._message = lambda text, caption="", error=False: seen.append({{"title": "message", "texts": [text], "bitmaps": 0}})
 
+def shoot(window, path):
+    # the dialog as the screen shows it (a PNG beside the test's files)
+    window.Raise()
+    for _ in range(10):  # let the window manager-less X server paint it
+        window.Update()
+        wx.SafeYield()
+        wx.MilliSleep(50)
+    x, y = window.GetScreenPosition()
+    w, h = window.GetSize()
+    bmp = wx.Bitmap(w, h)
+    mem = wx.MemoryDC(bmp)
+    mem.Blit(0, 0, w, h, wx.ScreenDC(), x, y)
+    mem.SelectObject(wx.NullBitmap)
+    bmp.SaveFile(path, wx.BITMAP_TYPE_PNG)
+
+waited = set()
+
 def press_ok(_event):
     for window in wx.GetTopLevelWindows():
         if isinstance(window, wx.Dialog) and window.IsModal():
+            if id(window) not in waited:  # one timer tick for the dialog to be painted
+                waited.add(id(window))
+                return
             texts = [c.GetValue() for c in window.GetChildren() if isinstance(c, wx.TextCtrl)]
-            seen.append({{"title": window.GetTitle(), "texts": texts,
+            choices = [c.GetStringSelection() for c in window.GetChildren() if isinstance(c, wx.Choice)]
+            labels = [c.GetLabel() for c in window.GetChildren() if isinstance(c, wx.StaticText)]
+            # the form only: under Xvfb without a window manager the result dialog's pixels are
+            # not on the screen yet when read back (its widgets are checked instead)
+            shot = f"{{sys.argv[2]}}/plugin-form.png" if not seen else ""
+            if shot:
+                shoot(window, shot)
+            seen.append({{"title": window.GetTitle(), "texts": texts, "choices": choices, "labels": labels, "shot": shot,
                          "bitmaps": sum(isinstance(c, wx.StaticBitmap) for c in window.GetChildren())}})
             window.EndModal(wx.ID_OK)
 
@@ -486,13 +518,6 @@ action.run_action(board)
 timer.Stop()
 pcbnew.SaveBoard(sys.argv[1], board)
 print(json.dumps(seen), flush=True)
-# This stand-alone interpreter segfaults in its final garbage collection once a wx.Image was
-# shown (the result dialog's drawing; without it, none).  Observed with KiCad 9.0.8 and
-# wxPython 4.2.0, cause not isolated; likely suspect: pcbnew registers wx's image handlers a
-# second time here ("Adding duplicate image handler").  KiCad's own interpreter is not torn
-# down this way, so the driver leaves without the final collection.
-import os
-os._exit(0)
 """
 
 
@@ -519,7 +544,7 @@ def test_the_action_regenerates_through_its_dialogs(placed: dict, tmp_path: Path
     driver.write_text(RUN_ACTION_HEADLESS, "utf-8")
     for _attempt in range(XVFB_ATTEMPTS):
         proc = subprocess.Popen(
-            ["xvfb-run", "-a", "-s", "-screen 0 1280x1024x24", kicad_python(), str(driver), str(board)],
+            ["xvfb-run", "-a", "-s", "-screen 0 1280x1024x24", kicad_python(), str(driver), str(board), str(tmp_path)],
             stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, env=_env(tmp_path), start_new_session=True,
         )
         try:
@@ -537,7 +562,14 @@ def test_the_action_regenerates_through_its_dialogs(placed: dict, tmp_path: Path
     assert [d["title"] for d in seen] == ["footgen: printed IFA antenna", "footgen: printed IFA antenna: result"]
     form = seen[0]["texts"]
     assert "ifa_r0" in form and "AE5" in form and "100" in form  # name, reference, feed point
-    assert seen[1]["bitmaps"] == 1
+    # band by its name, nets picked from the board's nets, the instance regenerated in place
+    assert "2.4 GHz ISM (2400-2483.5 MHz)" in seen[0]["choices"]
+    assert "RF_ANT" in seen[0]["choices"] and "GND" in seen[0]["choices"]
+    assert seen[1]["bitmaps"] == 2  # the copper drawing and the predicted S11
+    result = "\n".join(seen[1]["labels"])
+    assert "rule check passed" in result and "never replace measurement" in result
+    shot = Path(seen[0]["shot"])  # the form's screenshot, kept in the test's folder
+    assert shot.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n" and shot.parent == tmp_path and shot.stat().st_size > 10_000
     (after,) = _describe(board, tmp_path)
     for key in ("position_mm", "rotation_deg", "reference", "pad_nets", "fpid"):
         assert after[key] == before[key], key

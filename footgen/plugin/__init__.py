@@ -10,6 +10,7 @@ Registration needs ``pcbnew`` only; ``wx`` is imported when the action runs.
 from __future__ import annotations
 
 import sys
+from pathlib import Path
 
 #: The name of this package inside footgen; KiCad imports it under its folder name instead.
 FOOTGEN_PACKAGE = "footgen.plugin"
@@ -23,6 +24,9 @@ def register() -> bool:
     """Register the action plugin with KiCad.  False (and ``registration_error`` set) if
     ``pcbnew`` is missing; other errors propagate so KiCad lists them as a plugin load error."""
     global registration_error, registered
+    if not Path(__file__).with_name("action.py").exists():
+        registration_error = "no SWIG action in this folder (the IPC-API plugin's copy of the shared code)"
+        return False
     try:
         import pcbnew  # noqa: F401  (KiCad's module: present whenever KiCad loads plugins)
     except ImportError as exc:

@@ -36,10 +36,12 @@ EXIT_MEANINGS = {
     EXIT_INTERNAL: "internal error in footgen (please report it with the spec)",
 }
 INSTALL_HELP = (
-    "footgen was not found. Install it into a Python 3.10+ environment "
-    "(pip install footgen, or pip install -e <footgen checkout>) so that the `footgen` command "
-    f"is on PATH, or set the environment variable {FOOTGEN_CMD_ENV} to the full command "
-    "(e.g. /home/me/venv/bin/footgen) before starting KiCad."
+    "footgen was not found. Install it into its own Python 3.10+ environment (system Pythons "
+    "refuse pip outside one): `pipx install <footgen checkout>`, or in the checkout run "
+    "`bash scripts/quickstart.sh` (makes .venv). Then set the environment variable "
+    f"{FOOTGEN_CMD_ENV} to the full command (e.g. /home/me/footgen/.venv/bin/footgen) in KiCad: "
+    "Preferences > Configure Paths > Environment Variables, and restart the PCB editor. "
+    "Without it the plugin tries `footgen` on PATH and ~/.local/bin/footgen."
 )
 #: Where a user-level install puts the command when PATH (as KiCad sees it) lacks it.
 USER_BIN_DIRS = (Path.home() / ".local" / "bin",)
@@ -177,6 +179,17 @@ def build(spec_path: Path, out_dir: Path, cmd: list[str] | None = None, *, force
     check_path = Path(out_dir) / f"{name}.check.json"
     check = json.loads(check_path.read_text("utf-8")) if check_path.exists() else {}
     return BuildResult(proc.returncode, Path(out_dir), name, str(spec.get("library", DEFAULT_LIBRARY)), proc.stdout, proc.stderr, check)
+
+
+def predict_plot(spec_path: Path, plot_path: Path, cmd: list[str] | None = None) -> Path:
+    """The predicted S11 plot (``footgen predict SPEC --plot FILE``; the calibrated prediction
+    when the spec carries a measurement calibration); returns the PNG."""
+    plot_path = Path(plot_path)
+    argv = (cmd or find_footgen()) + ["predict", str(spec_path), "--plot", str(plot_path.with_suffix(".png")), "--force"]
+    proc = _run(argv)
+    if proc.returncode != EXIT_OK:
+        raise FootgenFailed(f"footgen predict failed: {_last_error(proc)}", proc.returncode, proc.stderr)
+    return plot_path.with_suffix(".png")
 
 
 # --- spec files ------------------------------------------------------------------------------

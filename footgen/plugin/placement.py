@@ -9,8 +9,9 @@ pads 2 on the GND net, by name (made if the board lacks them).
 ``pcbnew`` is imported inside the functions that need it, so the board-free helpers (project
 library table, stackup reading) work without KiCad.  Headless use (and the tests)::
 
-    python3 -m footgen.plugin.placement BOARD.kicad_pcb SPEC.json [--at X Y] [--rotation DEG]
-        [--reference AE1] [--rf-net RF_ANT] [--gnd-net GND] [--force] [--allow-violations]
+    python3 -m footgen.plugin.placement BOARD.kicad_pcb SPEC.json [--sites | --site N | --at X Y]
+        [--rotation DEG] [--focus X Y] [--reference AE1] [--rf-net RF_ANT] [--gnd-net GND]
+        [--force] [--allow-violations]
     python3 -m footgen.plugin.placement --describe BOARD.kicad_pcb
 
 The zones are not refilled (press B in KiCad, or ``footgen.plugin.board.fill_zones`` in a
@@ -215,6 +216,48 @@ def stackup_laminate(board_text: str) -> dict | None:
     return out
 
 
+# --- the board's design rules against the footprint's fab limits (no pcbnew) ----------------
+
+#: Board Setup value (mm) -> (the spec's fab limit it bounds, what KiCad calls it).
+BOARD_RULES = {
+    "copper_clearance_mm": ("min_clearance_mm", "copper clearance"),
+    "hole_clearance_mm": ("min_clearance_mm", "copper to hole clearance"),
+    "track_width_mm": ("min_trace_mm", "minimum track width"),
+    "edge_clearance_mm": ("min_copper_to_edge_mm", "copper to edge clearance"),
+    "min_drill_mm": ("min_drill_mm", "minimum through hole"),
+    "hole_to_hole_mm": ("min_hole_to_hole_mm", "hole to hole clearance"),
+    "annular_ring_mm": ("min_annular_ring_mm", "minimum annular width"),
+}
+#: Board and fab values closer than this are equal (mm): both are typed to 1 um.
+RULE_TOL_MM = 1e-4
+
+
+def rules_warnings(board_rules: dict, fab: dict) -> list[str]:
+    """One line for every Board Setup rule stricter than the fab limit the footprint was built
+    to (``fab``: the resolved limits a build reports in its check JSON)."""
+    out = []
+    for key, (field_name, label) in BOARD_RULES.items():
+        board_mm, fab_mm = board_rules.get(key), fab.get(field_name)
+        if board_mm is None or fab_mm is None or board_mm <= fab_mm + RULE_TOL_MM:
+            continue
+        out.append(f"the board's {label} is {board_mm:g} mm, the footprint was built to fab.{field_name} {fab_mm:g} mm: "
+                   "KiCad's DRC may flag it; build with the board's rules as fab limits")
+    return out
+
+
+def fab_from_board(spec: dict, board_rules: dict) -> dict:
+    """A copy of ``spec`` whose fab limits are the board's rules (the strictest rule for each
+    limit several rules bound); rules the board leaves at 0 change nothing."""
+    limits: dict[str, float] = {}
+    for key, (field_name, _label) in BOARD_RULES.items():
+        value = board_rules.get(key) or 0.0
+        if value > 0.0:
+            limits[field_name] = max(value, limits.get(field_name, 0.0))
+    out = json.loads(json.dumps(spec))
+    out.setdefault("fab", {"profile": "standard"}).update(limits)
+    return out
+
+
 # --- board work (pcbnew) ---------------------------------------------------------------------
 
 def _to_mm(value: int) -> float:
@@ -319,9 +362,56 @@ def replace(board, old, pretty_dir: Path, name: str, *, rf_net: str = DEFAULT_RF
     for getter, setter in (("GetSheetname", "SetSheetname"), ("GetSheetfile", "SetSheetfile")):
         if hasattr(old, getter) and hasattr(footprint, setter):
             getattr(footprint, setter)(getattr(old, getter)())
-    board.Remove(old)
+    _remove(board, old)
     apply_placement(board, footprint, kept, rf_net=rf_net, gnd_net=gnd_net)
     return footprint
+
+
+def _remove(board, item) -> None:
+    """Take ``item`` off the board.  In the editor, KiCad's undo list keeps the removed item,
+    so it is only detached; headless, SWIG's ``Remove`` would hand it to Python, which frees it
+    while the board still refers to it (the next ``board.Zones()`` crashes): KiCad deletes it."""
+    import pcbnew
+
+    if pcbnew.IsActionRunning():
+        board.Remove(item)
+    else:
+        board.Delete(item)
+
+
+def apply_site(spec: dict, site: dict) -> dict:
+    """A copy of ``spec`` built for ``site``: its arm direction, the edge distance it found, the
+    ground pour's width and length at the site, and no footgen-side rotation (KiCad rotates)."""
+    out = json.loads(json.dumps(spec))
+    clearance = out.setdefault("clearance", {})
+    clearance["arm_direction"] = site["arm_direction"]
+    clearance["edge_distance_mm"] = site["edge_distance_mm"]
+    ground = out.setdefault("ground_plane", {})
+    for key in ("width_mm", "length_mm"):
+        if site.get(f"ground_{key}"):
+            ground[key] = site[f"ground_{key}"]
+    if "output" in out:
+        out["output"].pop("rotation_deg", None)
+    return out
+
+
+def _locate(board, footprint, spec: dict, *, site: dict | None, placement: Placement, rf_net: str, gnd_net: str, cmd) -> Placement:
+    """Ask the placement core where ``footprint`` goes (``site``) or whether ``placement`` is
+    free; raise :class:`PlacementError` with the core's reasons when the clearance area does
+    not fit there."""
+    from . import board_view
+
+    view = board_view.board_view(board, gnd_net, rf_net=rf_net)
+    args = board_view.size_args(spec) + ["--box-lo-mm", repr(board_view.clearance_box_lo(footprint))]
+    if site is not None:
+        args += ["--site", json.dumps(site)]
+    else:
+        args += ["--at", *map(repr, placement.position_mm), "--rotation", repr(float(placement.rotation_deg))]
+    answer = board_view.ask_core(view, args, cmd)
+    if answer["problems"]:
+        x, y = answer["feed_mm"]
+        raise PlacementError(f"not placed at ({x:g}, {y:g}) mm: " + "; ".join(answer["problems"]))
+    return Placement(tuple(answer["feed_mm"]), float(answer["rotation_deg"]), placement.reference, placement.flipped, placement.locked, dict(placement.pad_nets))
 
 
 def default_placement(board, name: str, reference: str | None = None) -> tuple[Placement, bool]:
@@ -368,11 +458,18 @@ def regenerate(
     allow_violations: bool = False,
     cmd: list[str] | None = None,
     project_dir: Path | None = None,
+    site: dict | None = None,
+    check_place: bool = True,
 ) -> Outcome:
     """Build ``spec_path`` with the footgen command into ``<project>/footgen/``, install the
     footprint into ``<project>/footgen_antennas.pretty`` (adding it to the project fp-lib-table
     if missing) and put it on the board: every instance of that footprint (or the one called
     ``reference``) is replaced in place; with none, a new one goes to ``placement``.
+
+    ``site`` (one of ``footgen sites``' answers, see :mod:`.board_view`) places a new instance
+    there instead; the spec file must already be built for it (:func:`apply_site`).  A new
+    instance is refused (with the reason) where its clearance area leaves the board, overlaps
+    other copper or footprints or has no ground pour behind it, unless ``check_place`` is off.
 
     Raises :class:`PlacementError` when the rule check fails and ``allow_violations`` is off
     (nothing on the board changes then), or when there is nothing to replace and no placement.
@@ -381,6 +478,8 @@ def regenerate(
     spec = cli_runner.read_spec(spec_path)
     name = str(spec["name"])
     targets = _targets(board, name, reference)
+    if site is not None and placement is None:
+        placement = Placement((0.0, 0.0), 0.0, reference or next_reference(board))
     if not targets and placement is None:
         raise PlacementError(f"no footprint {PROJECT_LIBRARY}:{name} on the board to replace; give a position")
     work = project / WORK_DIR_NAME
@@ -397,7 +496,10 @@ def regenerate(
         return Outcome(result, capture(placed[0]), True, added, installed)
     if reference:
         placement = Placement(placement.position_mm, placement.rotation_deg, reference, placement.flipped, placement.locked, dict(placement.pad_nets))
-    footprint = place_new(board, pretty, name, placement, rf_net=rf_net, gnd_net=gnd_net)
+    footprint = load_footprint(pretty, name)
+    if check_place or site is not None:
+        placement = _locate(board, footprint, spec, site=site, placement=placement, rf_net=rf_net, gnd_net=gnd_net, cmd=cmd)
+    apply_placement(board, footprint, placement, rf_net=rf_net, gnd_net=gnd_net)
     return Outcome(result, capture(footprint), False, added, installed)
 
 
@@ -445,6 +547,10 @@ def main(argv: list[str]) -> int:
     parser.add_argument("--reference", help="Reference of the instance to replace or to create.")
     parser.add_argument("--rf-net", default=DEFAULT_RF_NET)
     parser.add_argument("--gnd-net", default=DEFAULT_GND_NET)
+    parser.add_argument("--sites", action="store_true", help="Print the places along the outline where the spec's clearance area fits (JSON) and exit.")
+    parser.add_argument("--site", type=int, metavar="N", help="Place a new instance at proposal N (0 = nearest the focus); the adapted spec goes to <project>/footgen/.")
+    parser.add_argument("--site-json", help="Place a new instance at this site (one of --sites' answers, as JSON).")
+    parser.add_argument("--focus", nargs=2, type=float, metavar=("X_MM", "Y_MM"), help="Sort proposals by distance from this point (default: board centre).")
     parser.add_argument("--force", action="store_true")
     parser.add_argument("--allow-violations", action="store_true")
     args = parser.parse_args(argv)
@@ -457,10 +563,25 @@ def main(argv: list[str]) -> int:
     if args.spec is None:
         parser.error("give SPEC.json (or --describe)")
     placement = Placement(tuple(args.at), args.rotation, args.reference or DEFAULT_REFERENCE) if args.at else None
+    spec_path, site = args.spec, None
     try:
+        if args.site_json:
+            site = json.loads(args.site_json)
+        elif args.sites or args.site is not None:
+            from .board_view import propose
+
+            spec = cli_runner.read_spec(spec_path)
+            sites = propose(board, spec, args.gnd_net, rf_net=args.rf_net, focus_mm=args.focus)
+            if args.sites:
+                print(json.dumps(sites))
+                return 0
+            if not 0 <= args.site < len(sites):
+                raise PlacementError(f"--site {args.site}: the board offers {len(sites)} site(s) for this clearance area (0..{len(sites) - 1})")
+            site = sites[args.site]
+            spec_path = cli_runner.write_spec(apply_site(spec, site), project_dir_of(board) / WORK_DIR_NAME / f"{spec['name']}.json")
         outcome = regenerate(
-            board, args.spec, placement=placement, reference=args.reference, rf_net=args.rf_net, gnd_net=args.gnd_net,
-            force=args.force, allow_violations=args.allow_violations,
+            board, spec_path, placement=placement, reference=args.reference, rf_net=args.rf_net, gnd_net=args.gnd_net,
+            force=args.force, allow_violations=args.allow_violations, site=site,
         )
     except (PlacementError, cli_runner.FootgenNotFound, cli_runner.FootgenFailed) as exc:
         print(f"footgen plugin: error: {exc}", file=sys.stderr)
