@@ -132,7 +132,7 @@ def report_markdown(result: BuildResult) -> str:
         f"| style | {spec.style.kind} |",
         f"| arm length (centreline, from above the short) | {d['arm_length_mm']:.3f} mm |",
         f"| arm height above the ground edge | {d['arm_height_mm']:.3f} mm |",
-        f"| feed-to-short spacing | {d['feed_short_spacing_mm']:.3f} mm |",
+        f"| feed tap (feed-to-short spacing) | {d['feed_short_spacing_mm']:.3f} mm |",
         f"| trace / short width | {d['trace_width_mm']:.3f} / {d['short_width_mm']:.3f} mm |",
         f"| meander turns | {int(d['meander_turns'])} |",
         f"| clearance | {d['clearance_width_mm']:.2f} x {d['clearance_depth_mm']:.2f} mm |",

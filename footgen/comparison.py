@@ -40,7 +40,7 @@ def measured_dip(measurement: Measurement, expected_hz: float) -> Dip:
         f_dip, _ = touchstone.min_s11_db(f, s)
         if not (f[0] < f_dip < f[-1]):
             raise MeasurementError(
-                f"{measurement.source}: no |S11| dip inside the sweep ({f[0] / 1e6:.1f} .. {f[-1] / 1e6:.1f} MHz); "
+                f"{measurement.source}: no resonance (|S11| minimum) inside the sweep ({f[0] / 1e6:.1f} .. {f[-1] / 1e6:.1f} MHz); "
                 f"measure a sweep that brackets the resonance (the model expects {expected_hz / 1e6:.1f} MHz)"
             )
     gamma = touchstone.s11_at(f, s, f_dip)

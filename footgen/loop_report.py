@@ -244,7 +244,7 @@ def markdown(data: ReportData, images: dict[str, str], diff_md: str | None = Non
               f"| band | {spec.target.low_hz / 1e6:g} to {spec.target.high_hz / 1e6:g} MHz |",
               f"| arm length | {d['arm_length_mm']:.3f} mm |",
               f"| arm height | {d['arm_height_mm']:.3f} mm |",
-              f"| feed-to-short spacing | {d['feed_short_spacing_mm']:.3f} mm |",
+              f"| feed tap (feed-to-short spacing) | {d['feed_short_spacing_mm']:.3f} mm |",
               f"| copper area | {d['copper_area_mm2']:.2f} mm^2 |",
               f"| sizing | {sz.method} |", ""]
     lines += ["## Rule check", ""]

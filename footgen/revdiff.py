@@ -34,7 +34,7 @@ NEW_COLOR = "#d9822b"
 DIM_ROWS: tuple[tuple[str, str, str], ...] = (
     ("arm_length_mm", "arm length", "mm"),
     ("arm_height_mm", "arm height", "mm"),
-    ("feed_short_spacing_mm", "feed-to-short spacing", "mm"),
+    ("feed_short_spacing_mm", "feed tap", "mm"),
     ("trace_width_mm", "trace width", "mm"),
     ("meander_turns", "meander turns", ""),
     ("clearance_width_mm", "clearance width", "mm"),

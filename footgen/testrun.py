@@ -138,6 +138,11 @@ def kicad_python() -> str:
     return KiCad().python()
 
 
+def kicad_cli() -> str:
+    """This system's ``kicad-cli``."""
+    return KiCad().cli()
+
+
 @dataclass(frozen=True)
 class DrcReport:
     board_path: Path

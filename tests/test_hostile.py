@@ -460,7 +460,7 @@ def test_kicad_text_escapes_backslashes_and_refuses_control_characters() -> None
 @pytest.mark.kicad
 def test_awkward_description_loads_in_kicad(tmp_path: Path, kicad: None) -> None:
     from footgen.build import run
-    from footgen.kicad.testrun import upgrade_footprint
+    from footgen.testrun import upgrade_footprint
 
     data = _set(_set(BASE, "description", AWKWARD), "arm", FIXED_ARM)
     result = run(parse_spec(data))

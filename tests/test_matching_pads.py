@@ -15,7 +15,7 @@ from hypothesis import strategies as st
 from footgen.build import report_markdown, run
 from footgen.errors import InfeasibleSpecError
 from footgen.geometry.matching_pads import LANDS, SHUNT_NODES, matching_pads
-from footgen.kicad.testrun import make_test_board, upgrade_footprint
+from footgen.testrun import make_test_board, upgrade_footprint
 from footgen.rules import check
 from footgen.spec import parse_spec
 

@@ -18,7 +18,7 @@ from pathlib import Path
 import pytest
 
 from conftest import ROOT, footgen_cmd
-from footgen.kicad.testrun import kicad_python
+from footgen.testrun import kicad_python
 from test_plugin_ipc import MAKE_BOARD, TEMPLATE
 from test_plugin_placement import XVFB_ATTEMPTS
 

@@ -19,7 +19,7 @@ from pathlib import Path
 import pytest
 
 from conftest import ROOT, footgen_cmd
-from footgen.kicad.testrun import kicad_cli, kicad_python
+from footgen.testrun import kicad_cli, kicad_python
 
 TEMPLATE = ROOT / "templates" / "ism-2g4-straight.json"
 KICAD10_ROOT = Path(os.environ.get("FOOTGEN_KICAD10_ROOT", "/opt/footgen-kicad10"))

@@ -23,7 +23,7 @@ from pathlib import Path
 import pytest
 
 from conftest import ROOT, footgen_cmd
-from footgen.kicad.testrun import kicad_python
+from footgen.testrun import kicad_python
 
 kipy = pytest.importorskip("kipy", reason="kicad-python (pip install kicad-python) drives the IPC API")
 
