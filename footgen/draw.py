@@ -164,9 +164,7 @@ def dimensions(plane: Plane, layout: Layout) -> tuple[list[Dim], list[Note]]:
 def pad_notes(layout: Layout, plane: Plane) -> list[Note]:
     pw, pl = layout.pad("1").size
     w2, l2 = layout.pad("2").size
-    px0, _, px1, _ = plane.pad1.bounds
-    nx0, _, nx1, _ = plane.notch.bounds
-    gap = ((nx1 - nx0) - (px1 - px0)) / 2  # the notch is the feed pad grown by the port gap
+    gap = layout.dims["port_gap_mm"]
     vias = layout.vias
     via_text = f", {len(vias)} vias, drill {vias[0].drill_mm:.2f}" if vias else ""
     p1, p2 = plane.pad1.centroid, plane.pad2[0].centroid

@@ -244,6 +244,7 @@ def _newton(problem: _Problem, x0: np.ndarray, progress: Progress) -> tuple[np.n
     r = problem.residual(x)
     jac0 = problem.jacobian(x, r)
     jac, fresh = jac0, True
+    best_x, best_r = x, r
     for step in range(1, MAX_NEWTON_STEPS + 1):
         if _converged(r, problem.tol):
             return x, jac0, step - 1
@@ -280,15 +281,20 @@ def _newton(problem: _Problem, x0: np.ndarray, progress: Progress) -> tuple[np.n
         jac = jac + np.outer(dr - jac @ dx, dx) / float(dx @ dx)  # Broyden's update
         fresh = False
         x, r = trial, r_trial
+        if np.linalg.norm(r / problem.tol) < np.linalg.norm(best_r / problem.tol):
+            best_x, best_r = x, r
         progress(f"retune: step {step}: arm {x[0]:.4f} mm" + (f", tap {x[1]:.4f} mm" if x.size > 1 else "")
                  + f", residual {np.max(np.abs(r)):.2e}")
-    if _converged(r, problem.tol, ACCEPT_FACTOR):
-        return x, jac0, MAX_NEWTON_STEPS
-    raise SolverError(f"retune did not converge in {MAX_NEWTON_STEPS} steps (residual {np.max(np.abs(r)):.2e}); retune by hand")
+    if _converged(best_r, problem.tol, ACCEPT_FACTOR):
+        return best_x, jac0, MAX_NEWTON_STEPS
+    raise SolverError(f"retune did not converge in {MAX_NEWTON_STEPS} steps (residual {np.max(np.abs(best_r)):.2e}); retune by hand")
 
 
-#: A Newton run that stalls is still accepted within this multiple of the tolerance.
-ACCEPT_FACTOR = 5.0
+#: A Newton run that stalls is still accepted, at its best step, within this multiple of the
+#: tolerance: a fitted meander is refitted as its arm changes, so the model's resonance moves in
+#: small steps that no Newton step can split; 20 x 5e-5 = 0.1 % of the target, far inside
+#: the model's own accuracy (common practice, no source).
+ACCEPT_FACTOR = 20.0
 
 
 def _converged(r: np.ndarray, tol: np.ndarray, factor: float = 1.0) -> bool:

@@ -49,7 +49,7 @@ class Violation:
         return (
             f"{self.severity}: {self.rule}: {self.message}: measured {self.measured_mm:.4f} mm, "
             f"allowed >= {self.allowed_mm:.4f} mm at ({self.x_mm:.3f}, {self.y_mm:.3f}) mm; "
-            f"fix: set {self.field} to {_fmt(self.fix_value)}"
+            f"fix: set {self.field} to {_fix_text(self.field, self.fix_value)}"
         )
 
     def as_dict(self) -> dict:
@@ -57,6 +57,10 @@ class Violation:
         for key in ("measured_mm", "allowed_mm", "x_mm", "y_mm", "fix_value"):
             data[key] = round(data[key], 6)
         return data
+
+
+def _fix_text(field: str, value: float) -> str:
+    return f'"{int(value):04d}"' if field.endswith(".package") else _fmt(value)
 
 
 def _fmt(value: float) -> str:
@@ -215,14 +219,15 @@ def rule_matching_pads(layout: Layout, fab: FabLimits) -> list[Violation]:
     """The matching network's lands: pads of different nodes apart by the fab clearance, and
     its RF pads (antenna and radio node) that far from the ground pour."""
     lands = [p for p in layout.pads if p.solderable]
+    allowed = design_limits(fab).min_clearance_mm  # KiCad checks them at the board's clearance
     out = []
     for i, a in enumerate(lands):
         for b in lands[i + 1:]:
             if a.number != b.number:
-                out += _too_close("matching_pad_clearance", a.polygon, b.polygon, fab.min_clearance_mm,
+                out += _too_close("matching_pad_clearance", a.polygon, b.polygon, allowed,
                                   f"matching pads {a.number} and {b.number} too close")
         if a.number != "2":
-            out += _too_close("matching_pad_clearance", a.polygon, layout.ground, fab.min_clearance_mm,
+            out += _too_close("matching_pad_clearance", a.polygon, layout.ground, allowed,
                               f"matching pad {a.number} too close to the ground pour")
     return out
 
@@ -263,6 +268,16 @@ def _fix_hole_clearance(v: Violation, layout: Layout, fab: FabLimits) -> tuple[s
     return "$.short.via_count", 0.0
 
 
+def _fix_matching_pads(v: Violation, layout: Layout, fab: FabLimits) -> tuple[str, float]:
+    if "ground pour" in v.message:  # a land too close to the pour: set the pour further back
+        return "$.feed.port_gap_mm", _up(layout.dims["port_gap_mm"] + _deficit(v))
+    return "$.matching_network.package", LARGER_PACKAGE  # lands too close to each other
+
+
+#: The matching-network package whose lands stand further apart (written as "0603").
+LARGER_PACKAGE = 603.0
+
+
 FIXES: dict[str, Callable[[Violation, Layout, FabLimits], tuple[str, float]]] = {
     "trace_width": lambda v, layout, fab: ("$.trace_width_mm", _up(v.allowed_mm)),
     "copper_clearance": _fix_turn_gap,
@@ -274,6 +289,7 @@ FIXES: dict[str, Callable[[Violation, Layout, FabLimits], tuple[str, float]]] = 
     "hole_to_hole": lambda v, layout, fab: ("$.short.via_count", 1.0),
     "hole_clearance": _fix_hole_clearance,
     "keepout_margin": lambda v, layout, fab: ("$.clearance.short_inset_mm", _up(layout.dims["short_inset_mm"] + _deficit(v))),
+    "matching_pad_clearance": _fix_matching_pads,
 }
 
 

@@ -169,7 +169,7 @@ def test_diff_of_two_footprints(tmp_path, spec_path):
     paths = []
     for arm in (18.0, 19.5):
         data = json.loads(spec_path.read_text("utf-8"))
-        data["arm"] = {"length_mm": arm, "height_mm": 5.3, "feed_short_spacing_mm": 0.95}
+        data["arm"] = {"length_mm": arm, "height_mm": 5.3, "feed_short_spacing_mm": 1.0}
         path = tmp_path / f"a{arm}.kicad_mod"
         path.write_text(build.run(parse_spec(data)).footprint_text, "utf-8")
         paths.append(path)

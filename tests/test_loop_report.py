@@ -28,7 +28,7 @@ def spec(revision: int = 1, arm_mm: float | None = None):
     data = json.loads((TEMPLATES / "ism-2g4-straight.json").read_text("utf-8"))
     data["revision"] = revision
     if arm_mm is not None:
-        data["arm"] = {"length_mm": arm_mm, "height_mm": 5.3, "feed_short_spacing_mm": 0.95}
+        data["arm"] = {"length_mm": arm_mm, "height_mm": 5.3, "feed_short_spacing_mm": 1.0}
     return parse_spec(data)
 
 

@@ -8,25 +8,10 @@ import pytest
 from threadpoolctl import threadpool_info, threadpool_limits
 
 from footgen.physics import mom
-from footgen.physics.ifa import GroundPlane, Laminate, PrintedIfa
 from footgen.physics.mom import MomSolver, solve_refined
 from footgen.physics.wires import MeshControl, ifa_wire_model
 
-MM = 1e-3
-
-
-def board_ifa() -> PrintedIfa:
-    """Invented demo geometry (not a vendor design): IFA on FR-4 over a 36 x 40 mm ground."""
-    return PrintedIfa(
-        arm_path_m=((-13 * MM, 5 * MM), (7 * MM, 5 * MM)),
-        feed_x_m=-9.5 * MM,
-        short_x_m=-13 * MM,
-        trace_width_m=0.8 * MM,
-        short_width_m=0.8 * MM,
-        port_gap_m=0.6 * MM,
-        ground=GroundPlane(x_min_m=-18 * MM, x_max_m=18 * MM, length_m=40 * MM),
-        laminate=Laminate(eps_r=4.3, thickness_m=1.6 * MM, loss_tangent=0.02),
-    )
+from test_predict import demo_ifa as board_ifa  # the invented demo board (not a vendor design)
 
 
 @pytest.fixture(scope="module")

@@ -84,3 +84,19 @@ def test_quick_start_line_one_builds_the_example_in_a_fresh_venv(tmp_path: Path)
     assert "soil_probe.pretty/soil_probe_2g4.kicad_mod" in built, built
     golden = (ROOT / "tests" / "golden" / "soil-probe-2g4.kicad_mod").read_bytes()
     assert (checkout / "build" / "soil_probe.pretty" / "soil_probe_2g4.kicad_mod").read_bytes() == golden
+
+    # then, in that environment activated as README says, the worked example and the prediction
+    # exactly as printed (the worked example's output lines included)
+    venv_bin = checkout / ".venv" / "bin"
+    env = {k: v for k, v in os.environ.items() if k not in ("VIRTUAL_ENV", "PYTHONPATH")}
+    env.update(VIRTUAL_ENV=str(checkout / ".venv"), PATH=f"{venv_bin}{os.pathsep}{env.get('PATH', '')}")
+    shutil.rmtree(checkout / "build")
+    example = [line for line in _code_block_after("## Worked example")]
+    command = example[0].removeprefix("$ ")
+    proc = subprocess.run(shlex.split(command), cwd=checkout, capture_output=True, text=True, timeout=900, env=env)
+    assert proc.returncode == 0, proc.stderr[-3000:]
+    assert proc.stdout.splitlines() == example[1:]
+    (predict,) = _code_block_after("## Predicting S11")
+    proc = subprocess.run(shlex.split(predict), cwd=checkout, capture_output=True, text=True, timeout=900, env=env)
+    assert proc.returncode == 0, proc.stderr[-3000:]
+    assert "resonance" in proc.stdout and (checkout / "s11.png").is_file() and (checkout / "predicted.s1p").is_file()

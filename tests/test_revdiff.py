@@ -35,7 +35,7 @@ ARM_OLD_MM, ARM_NEW_MM = 18.0, 20.5
 def spec_data(arm_mm: float | None = None) -> dict:
     data = json.loads((TEMPLATES / "ism-2g4-straight.json").read_text("utf-8"))
     if arm_mm is not None:
-        data["arm"] = {"length_mm": arm_mm, "height_mm": 5.3, "feed_short_spacing_mm": 0.95}
+        data["arm"] = {"length_mm": arm_mm, "height_mm": 5.3, "feed_short_spacing_mm": 1.0}
     return data
 
 

@@ -73,7 +73,8 @@ def test_each_rule_reports_its_fault(changes: dict, fab_changes: dict, rule: str
     assert v.allowed_mm == pytest.approx(
         {"trace_width": fab.min_trace_mm, "via_drill": design.min_drill_mm, "annular_ring": design.min_annular_ring_mm,
          "hole_to_hole": design.min_hole_to_hole_mm, "copper_to_edge": design.min_copper_to_edge_mm,
-         "hole_clearance": design.min_hole_clearance_mm, "pad_clearance": design.min_clearance_mm}.get(rule, fab.min_clearance_mm)
+         "hole_clearance": design.min_hole_clearance_mm, "pad_clearance": design.min_clearance_mm,
+         "matching_pad_clearance": design.min_clearance_mm}.get(rule, fab.min_clearance_mm)
     )
     x0, y0, x1, y1 = layout.courtyard.bounds
     # the location is on the footprint, in KiCad's footprint frame (y down)

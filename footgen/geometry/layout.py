@@ -343,7 +343,7 @@ def _matching_network(spec: Spec) -> "MatchingPads | None":
         return None
     return matching_pads(kind=section.get("network", "pi"), package=section.get("package", "0402"),
                          feed_pad_width_mm=spec.feed.pad_width_mm, feed_pad_length_mm=spec.feed.pad_length_mm,
-                         min_clearance_mm=spec.fab.min_clearance_mm)
+                         min_clearance_mm=design_limits(spec.fab).min_clearance_mm)
 
 
 def _network_notch(notch: Polygon, network: "MatchingPads", gap: float) -> Polygon:

@@ -13,10 +13,12 @@ import contextlib
 import math
 import contextvars
 import time
-from typing import Iterator
+from typing import TYPE_CHECKING, Iterator
 
 from footgen.errors import SolverError
-from footgen.physics.mom import WireModel
+
+if TYPE_CHECKING:  # the solver module (scipy) loads only where a model is solved
+    from footgen.physics.mom import WireModel
 
 #: Bytes per unknown squared that the solver holds at its peak: 216-245 measured with
 #: tracemalloc on one solve of the 433 MHz template and the 2.4 GHz soil-probe example (N 460-500),
