@@ -18,6 +18,7 @@ from pathlib import Path
 
 import pytest
 
+from plugin_boards import BOARD_H_MM, BOARD_W_MM, BOARD_X0_MM, BOARD_Y0_MM, board_script
 from conftest import ROOT, footgen_cmd
 from footgen.testrun import kicad_cli, kicad_python
 
@@ -26,7 +27,6 @@ KICAD10_ROOT = Path(os.environ.get("FOOTGEN_KICAD10_ROOT", "/opt/footgen-kicad10
 KICAD10_READY = KICAD10_ROOT / ".footgen-kicad10-ready"
 SUBPROCESS_TIMEOUT_S = 900
 #: The test board (KiCad mm): outline corner and size, a signal track 3 mm inside the top edge.
-BOARD_X0_MM, BOARD_Y0_MM, BOARD_W_MM, BOARD_H_MM = 100.0, 100.0, 70.0, 50.0
 #: Proposals are sorted from this point: just below the bottom edge's middle.
 FOCUS_MM = (BOARD_X0_MM + BOARD_W_MM / 2, BOARD_Y0_MM + BOARD_H_MM + 5.0)
 CHANGED_ARM_LENGTH_MM = 20.0
@@ -40,23 +40,7 @@ from footgen.plugin.board_view import propose
 
 project, spec_path = Path(sys.argv[1]), Path(sys.argv[2])
 board_path = project / "board.kicad_pcb"
-board = pcbnew.NewBoard(str(board_path))
-gnd = pcbnew.NETINFO_ITEM(board, "GND"); board.Add(gnd)
-sig = pcbnew.NETINFO_ITEM(board, "SIG"); board.Add(sig)
-X0, Y0, W, H = {BOARD_X0_MM}, {BOARD_Y0_MM}, {BOARD_W_MM}, {BOARD_H_MM}
-pts = [(X0, Y0), (X0 + W, Y0), (X0 + W, Y0 + H), (X0, Y0 + H)]
-for a, b in zip(pts, pts[1:] + pts[:1]):
-    seg = pcbnew.PCB_SHAPE(board); seg.SetShape(pcbnew.SHAPE_T_SEGMENT); seg.SetLayer(pcbnew.Edge_Cuts)
-    seg.SetStart(pcbnew.VECTOR2I_MM(*a)); seg.SetEnd(pcbnew.VECTOR2I_MM(*b)); seg.SetWidth(pcbnew.FromMM(0.1)); board.Add(seg)
-for layer in (pcbnew.F_Cu, pcbnew.B_Cu):
-    zone = pcbnew.ZONE(board); zone.SetLayer(layer); zone.SetNet(gnd)
-    outline = zone.Outline(); outline.NewOutline()
-    for x, y in pts:
-        outline.Append(pcbnew.FromMM(x), pcbnew.FromMM(y))
-    board.Add(zone)
-track = pcbnew.PCB_TRACK(board); track.SetLayer(pcbnew.F_Cu); track.SetNet(sig); track.SetWidth(pcbnew.FromMM(0.25))
-track.SetStart(pcbnew.VECTOR2I_MM(X0 + 5, Y0 + 3)); track.SetEnd(pcbnew.VECTOR2I_MM(X0 + W - 5, Y0 + 3)); board.Add(track)
-pcbnew.SaveBoard(str(board_path), board)
+""" + board_script("str(board_path)") + f"""
 board = pcbnew.LoadBoard(str(board_path))
 spec = cli_runner.read_spec(spec_path)
 sites = propose(board, spec, "GND", rf_net="RF_ANT", focus_mm={FOCUS_MM!r})
@@ -132,8 +116,7 @@ def headless(request: pytest.FixtureRequest, tmp_path_factory: pytest.TempPathFa
     (tmp / "tmp").mkdir()
     spec = json.loads(TEMPLATE.read_text("utf-8"))
     spec["name"] = "edge_ifa"
-    # KiCad's default Board Setup: copper-to-hole 0.25 mm, copper-to-edge 0.5 mm
-    spec["fab"].update(min_clearance_mm=0.25, min_copper_to_edge_mm=0.5)
+    # the template's own fab profile: its footprint keeps KiCad's default Board Setup by itself
     spec_path = tmp / "spec.json"
     spec_path.write_text(json.dumps(spec, indent=2), "utf-8")
     driver = tmp / "driver.py"

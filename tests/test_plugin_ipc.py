@@ -23,6 +23,7 @@ from pathlib import Path
 import pytest
 
 from conftest import ROOT, footgen_cmd
+from plugin_boards import board_script
 from footgen.testrun import kicad_python
 
 kipy = pytest.importorskip("kipy", reason="kicad-python (pip install kicad-python) drives the IPC API")
@@ -33,25 +34,7 @@ KICAD_READY_S = 120
 DOOR_TIMEOUT_S = 600
 NM_PER_MM = 1_000_000
 
-MAKE_BOARD = """
-import sys, pcbnew
-board = pcbnew.NewBoard(sys.argv[1])
-gnd = pcbnew.NETINFO_ITEM(board, "GND"); board.Add(gnd)
-sig = pcbnew.NETINFO_ITEM(board, "SIG"); board.Add(sig)
-pts = [(100.0, 100.0), (170.0, 100.0), (170.0, 150.0), (100.0, 150.0)]
-for a, b in zip(pts, pts[1:] + pts[:1]):
-    seg = pcbnew.PCB_SHAPE(board); seg.SetShape(pcbnew.SHAPE_T_SEGMENT); seg.SetLayer(pcbnew.Edge_Cuts)
-    seg.SetStart(pcbnew.VECTOR2I_MM(*a)); seg.SetEnd(pcbnew.VECTOR2I_MM(*b)); seg.SetWidth(pcbnew.FromMM(0.1)); board.Add(seg)
-for layer in (pcbnew.F_Cu, pcbnew.B_Cu):
-    zone = pcbnew.ZONE(board); zone.SetLayer(layer); zone.SetNet(gnd)
-    outline = zone.Outline(); outline.NewOutline()
-    for x, y in pts:
-        outline.Append(pcbnew.FromMM(x), pcbnew.FromMM(y))
-    board.Add(zone)
-track = pcbnew.PCB_TRACK(board); track.SetLayer(pcbnew.F_Cu); track.SetNet(sig); track.SetWidth(pcbnew.FromMM(0.25))
-track.SetStart(pcbnew.VECTOR2I_MM(105, 103)); track.SetEnd(pcbnew.VECTOR2I_MM(165, 103)); board.Add(track)
-pcbnew.SaveBoard(sys.argv[1], board)
-"""
+MAKE_BOARD = "import sys, pcbnew\n" + board_script("sys.argv[1]")
 
 SCREENSHOT = """
 import sys, wx
