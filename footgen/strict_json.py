@@ -8,6 +8,8 @@ in the file the problem is, and bounds the file size; a UTF-8 byte-order mark is
 
 from __future__ import annotations
 
+from collections.abc import Iterator
+
 import json
 import math
 from pathlib import Path
@@ -72,10 +74,9 @@ class _JsonValueError(ValueError):
         self.token = token  # the text to look for outside strings, to say where it is
 
 
-def _where_in_text(text: str, token: str, where: str) -> str:
-    """``where:line:column`` of the first ``token`` outside JSON strings, else ``where``."""
-    if not token:
-        return where
+def _outside_strings(text: str) -> Iterator[tuple[int, str, int, int]]:
+    """``(index, character, line, column)`` of every character outside JSON strings (the quotes
+    themselves count as inside); a linear scan, no recursion, any input size."""
     in_string = escaped = False
     line, column = 1, 1
     for i, ch in enumerate(text):
@@ -88,27 +89,26 @@ def _where_in_text(text: str, token: str, where: str) -> str:
                 in_string = False
         elif ch == '"':
             in_string = True
-        elif text.startswith(token, i):
-            return f"{where}:{line}:{column}"
+        else:
+            yield i, ch, line, column
         line, column = (line + 1, 1) if ch == "\n" else (line, column + 1)
+
+
+def _where_in_text(text: str, token: str, where: str) -> str:
+    """``where:line:column`` of the first ``token`` outside JSON strings, else ``where``."""
+    if not token:
+        return where
+    for i, _, line, column in _outside_strings(text):
+        if text.startswith(token, i):
+            return f"{where}:{line}:{column}"
     return where
 
 
 def _nesting_depth(text: str) -> int:
-    """Deepest bracket nesting outside strings (a linear scan: no recursion, any input size)."""
+    """Deepest bracket nesting outside strings."""
     depth = deepest = 0
-    in_string = escaped = False
-    for ch in text:
-        if in_string:
-            if escaped:
-                escaped = False
-            elif ch == "\\":
-                escaped = True
-            elif ch == '"':
-                in_string = False
-        elif ch == '"':
-            in_string = True
-        elif ch in "[{":
+    for _, ch, _, _ in _outside_strings(text):
+        if ch in "[{":
             depth += 1
             deepest = max(deepest, depth)
         elif ch in "]}":
