@@ -1,7 +1,7 @@
 #!/usr/bin/env bash
 # KiCad 10 for the tests, beside the system's KiCad 9: a Debian sid chroot made with debootstrap,
 # outside the repository (default /opt/footgen-kicad10, or $FOOTGEN_KICAD10_ROOT).  KiCad runs in
-# it only as a subprocess (scripts/kicad10-run.sh).  Safe to re-run: a finished chroot is kept, an
+# it only as a subprocess (footgen/testrun.py).  Safe to re-run: a finished chroot is kept, an
 # unfinished one is rebuilt.  Needs root (or sudo).
 set -euo pipefail
 root=${FOOTGEN_KICAD10_ROOT:-/opt/footgen-kicad10}
@@ -10,13 +10,8 @@ stamp="$root/.footgen-kicad10-ready"
 SUDO=""; [ "$(id -u)" = 0 ] || SUDO=sudo
 export DEBIAN_FRONTEND=noninteractive
 
-# the Debian mirror this machine already uses (deb822 .sources or one-line sources.list)
-mirror=$(cat /etc/apt/sources.list.d/*.sources 2>/dev/null | awk '/^URIs:/ && $2 ~ /debian\/?$/ {print $2; exit}')
-if [ -z "$mirror" ]; then
-  mirror=$(cat /etc/apt/sources.list /etc/apt/sources.list.d/*.list 2>/dev/null \
-    | awk '$1 == "deb" {for (i = 2; i <= NF; i++) if ($i ~ /^(https?|file):.*debian\/?$/) {print $i; exit}}' | head -n1)
-fi
-mirror=${mirror:-http://deb.debian.org/debian}
+# the Debian mirror this machine already uses
+mirror=$(bash "$(dirname "$0")/debian_mirror.sh")
 
 if ! command -v debootstrap >/dev/null 2>&1; then
   $SUDO apt-get install -y -qq --no-install-recommends debootstrap >/dev/null \

@@ -26,14 +26,17 @@ command -v debootstrap >/dev/null 2>&1 || need_apt=1
 if [ "$need_apt" = 1 ]; then
   echo "== installing KiCad 9 ($backports), openEMS ($codename), Xvfb and debootstrap"
   if ! grep -rqs "$backports" /etc/apt/sources.list /etc/apt/sources.list.d/; then
-    printf 'Types: deb\nURIs: http://deb.debian.org/debian\nSuites: %s\nComponents: main\nSigned-By: /usr/share/keyrings/debian-archive-keyring.gpg\n' "$backports" \
+    mirror=$(bash scripts/debian_mirror.sh)
+    printf 'Types: deb\nURIs: %s\nSuites: %s\nComponents: main\nSigned-By: /usr/share/keyrings/debian-archive-keyring.gpg\n' "$mirror" "$backports" \
       | $SUDO tee /etc/apt/sources.list.d/footgen-backports.sources >/dev/null
   fi
   $SUDO apt-get update -qq
   $SUDO apt-get install -y -qq -t "$backports" --no-install-recommends kicad >/dev/null
   # openEMS with KiCad's hwloc from backports: one install, so apt resolves them together
+  # (where backports has no newer hwloc, the plain install resolves)
   $SUDO apt-get install -y -qq --no-install-recommends openems python3-openems \
-    "libhwloc-plugins/$backports" xvfb xauth debootstrap >/dev/null
+    "libhwloc-plugins/$backports" xvfb xauth debootstrap >/dev/null \
+    || $SUDO apt-get install -y -qq --no-install-recommends openems python3-openems xvfb xauth debootstrap >/dev/null
 fi
 # KiCad 10 (Debian sid) in its own root outside the repository, beside the system's KiCad 9
 FOOTGEN_KICAD10_ROOT=${FOOTGEN_KICAD10_ROOT:-/opt/footgen-kicad10} bash scripts/install_kicad10.sh
