@@ -61,14 +61,6 @@ class Comparison:
     measured_dip: Dip
     calibration: Calibration
 
-    @property
-    def freq_ratio(self) -> float:
-        return self.calibration.freq_factor
-
-    @property
-    def r_ratio(self) -> float:
-        return self.calibration.resistance_factor
-
 
 def calibrate(spec: Spec, measurement: Measurement, *, model: str = sizing.DEFAULT_MODEL,
               measured_date: str | None = None) -> Comparison:

@@ -125,14 +125,6 @@ class RetuneResult:
     notes: tuple[str, ...]
 
     @property
-    def freq_ratio(self) -> float:
-        return self.calibration.freq_factor
-
-    @property
-    def r_ratio(self) -> float:
-        return self.calibration.resistance_factor
-
-    @property
     def dfdl_hz_per_mm(self) -> float:
         return self.sensitivities()[0]
 

@@ -13,6 +13,7 @@ os.environ.setdefault("HYPOTHESIS_STORAGE_DIRECTORY", os.path.join(tempfile.gett
 # folder, never in the user's cache; so do the model sweeps (footgen.cache).
 os.environ.setdefault("FOOTGEN_CACHE_DIR", os.path.join(tempfile.gettempdir(), "footgen-test-cache"))
 
+import copy  # noqa: E402
 import json  # noqa: E402
 import shutil
 import subprocess
@@ -67,6 +68,18 @@ def kicad() -> None:
 def _kicad_config_home(tmp_path_factory: pytest.TempPathFactory, monkeypatch: pytest.MonkeyPatch) -> None:
     """KiCad writes settings on first run: keep them out of the user's home."""
     monkeypatch.setenv("KICAD_CONFIG_HOME", str(tmp_path_factory.getbasetemp() / "kicad-config"))
+
+
+def with_field(data: dict, dotted: str, value: object) -> dict:
+    """A deep copy of spec ``data`` with the field at the dotted path (e.g. ``"fab.min_drill_mm"``)
+    set to ``value``, creating sections on the way."""
+    out = copy.deepcopy(data)
+    node = out
+    keys = dotted.split(".")
+    for key in keys[:-1]:
+        node = node.setdefault(key, {})
+    node[keys[-1]] = value
+    return out
 
 
 def load_json(path: Path) -> dict:

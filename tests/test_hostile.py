@@ -20,22 +20,12 @@ from footgen.cli import main
 from footgen.errors import EXIT_INTERNAL, MAX_MESSAGE_CHARS, SpecError
 from footgen.spec import load_schema, parse_spec
 
-from conftest import ROOT, footgen_cmd, load_json
+from conftest import ROOT, footgen_cmd, load_json, with_field
 
 BASE = load_json(ROOT / "examples" / "soil-probe-2g4.json")
 BASE_TEXT = json.dumps(BASE, indent=2)
 #: Sizing fixed in the spec: the build needs no solve (fast cases that still reach the writer).
 FIXED_ARM = {"length_mm": 20.0, "height_mm": 4.5, "feed_short_spacing_mm": 2.0}
-
-
-def _set(data: dict, dotted: str, value: object) -> dict:
-    out = copy.deepcopy(data)
-    node = out
-    keys = dotted.split(".")
-    for key in keys[:-1]:
-        node = node.setdefault(key, {})
-    node[keys[-1]] = value
-    return out
 
 
 def _one_clean_line(result, code: int = 2) -> str:
@@ -215,7 +205,7 @@ def test_every_number_field_has_a_stated_range() -> None:
 
 
 def test_fab_limit_nan_is_refused_not_switched_off() -> None:
-    data = _set(BASE, "fab", {"profile": "standard", "min_drill_mm": math.nan})
+    data = with_field(BASE, "fab", {"profile": "standard", "min_drill_mm": math.nan})
     with pytest.raises(SpecError, match=r"\$\.fab\.min_drill_mm"):
         parse_spec(data)
 
@@ -248,7 +238,7 @@ STRING_CASES = [
 @pytest.mark.parametrize("case_id, field, value, expected", STRING_CASES, ids=[c[0] for c in STRING_CASES])
 def test_hostile_strings_are_refused_in_one_bounded_line(tmp_path: Path, case_id: str, field: str, value: object, expected: str) -> None:
     spec = tmp_path / "s.json"
-    spec.write_text(json.dumps(_set(BASE, field, value)), "utf-8")
+    spec.write_text(json.dumps(with_field(BASE, field, value)), "utf-8")
     out = tmp_path / "out"
     line = _one_clean_line(CliRunner().invoke(main, ["build", str(spec), "-o", str(out)]))
     assert expected in line, line
@@ -314,7 +304,7 @@ def test_validate_reports_fab_rule_errors_that_need_no_sizing(tmp_path: Path, ca
 
 def test_huge_ground_plane_is_refused_before_allocating(tmp_path: Path) -> None:
     spec = tmp_path / "huge.json"
-    spec.write_text(json.dumps(_set(BASE, "ground_plane", {"width_mm": 1000, "length_mm": 1000})), "utf-8")
+    spec.write_text(json.dumps(with_field(BASE, "ground_plane", {"width_mm": 1000, "length_mm": 1000})), "utf-8")
     before = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss
     proc = subprocess.run(footgen_cmd() + ["check", str(spec)], capture_output=True, text=True, timeout=300)
     peak_kib = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss
@@ -462,7 +452,7 @@ def test_awkward_description_loads_in_kicad(tmp_path: Path, kicad: None) -> None
     from footgen.build import run
     from footgen.testrun import upgrade_footprint
 
-    data = _set(_set(BASE, "description", AWKWARD), "arm", FIXED_ARM)
+    data = with_field(with_field(BASE, "description", AWKWARD), "arm", FIXED_ARM)
     result = run(parse_spec(data))
     pretty = tmp_path / "lib.pretty"
     pretty.mkdir()

@@ -143,8 +143,8 @@ def test_poor_match_moves_the_tap(tmp_path, straight):
     # 50 ohm at the target (the model evaluated here directly at that one frequency).
     n = result.new_sizing
     ifa = evaluator(result.new_spec, MODEL).ifa(n.arm_length_mm, n.height_mm, n.feed_short_spacing_mm)
-    z = complex(sizing.MODELS[MODEL].zin_ohm(np.array([f0 / result.freq_ratio]), ifa)[0])
-    z_cal = result.r_ratio * z.real + 1j * z.imag
+    z = complex(sizing.MODELS[MODEL].zin_ohm(np.array([f0 / result.calibration.freq_factor]), ifa)[0])
+    z_cal = result.calibration.resistance_factor * z.real + 1j * z.imag
     assert abs(z_cal / 50.0 - 1) < MATCH_REL
     tap = f"{old.feed_short_spacing_mm:.3f}"
     assert f"tap {tap} ->" in result.history_note and f"-> {tap} mm" not in result.history_note
@@ -211,7 +211,7 @@ def test_tap_beyond_the_fab_limit_is_clamped_with_a_note(tmp_path, straight):
     # short, past the fab's smallest feed-to-short spacing (revision 1 already sits there).
     s11 = response(board_spec(spec.raw, old, 4.6), old, sweep, series_ohm=60.0)
     result = retune(spec, touchstone.read_s11(write_measurement(tmp_path / "high.s1p", sweep, s11)), model=MODEL, move_tap=True)
-    assert result.r_ratio > 1  # the tap would have to lower the model's R
+    assert result.calibration.resistance_factor > 1  # the tap would have to lower the model's R
     assert any("does not fit the fab rules" in note for note in result.notes)
     assert result.new_sizing.feed_short_spacing_mm == pytest.approx(sizing.min_spacing_mm(spec), abs=1e-3)
     assert abs(result.predicted_freq_hz / f0 - 1) < SOLVE_REL  # the length is still solved

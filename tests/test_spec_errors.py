@@ -14,19 +14,9 @@ from footgen.cli import main
 from footgen.errors import SpecError
 from footgen.spec import parse_spec
 
-from conftest import ROOT, load_json
+from conftest import ROOT, load_json, with_field
 
 BASE = load_json(ROOT / "examples" / "soil-probe-2g4.json")
-
-
-def _set(data: dict, dotted: str, value: object) -> dict:
-    out = copy.deepcopy(data)
-    node = out
-    keys = dotted.split(".")
-    for key in keys[:-1]:
-        node = node.setdefault(key, {})
-    node[keys[-1]] = value
-    return out
 
 
 def _drop(data: dict, dotted: str) -> dict:
@@ -42,45 +32,45 @@ def _drop(data: dict, dotted: str) -> dict:
 # (id, spec data, text the one-line error must contain)
 BAD_SPECS: list[tuple[str, object, str]] = [
     ("no_schema_version", _drop(BASE, "schema_version"), "schema_version"),
-    ("future_schema_version", _set(BASE, "schema_version", 2), "$.schema_version"),
-    ("name_with_space", _set(BASE, "name", "my antenna"), "$.name"),
-    ("name_empty", _set(BASE, "name", ""), "$.name"),
-    ("unknown_field", _set(BASE, "colour", "red"), "colour"),
-    ("typo_field", _set(_drop(BASE, "trace_width_mm"), "trace_widht_mm", 0.8), "trace_width_mm"),
-    ("unknown_band", _set(BASE, "target", {"band": "ism_2g5"}), "ism_2g4"),
-    ("center_too_low", _set(BASE, "target", {"center_mhz": 50}), "$.target.center_mhz"),
-    ("band_edges_reversed", _set(BASE, "target", {"low_mhz": 930, "high_mhz": 900}), "$.target.high_mhz"),
-    ("band_and_center", _set(BASE, "target", {"band": "ism_2g4", "center_mhz": 2440}), "$.target"),
-    ("bandwidth_too_wide", _set(BASE, "target", {"center_mhz": 900, "bandwidth_mhz": 2000}), "$.target.bandwidth_mhz"),
-    ("eps_r_below_one", _set(BASE, "laminate.eps_r", 0.5), "$.laminate.eps_r"),
-    ("thickness_negative", _set(BASE, "laminate.thickness_mm", -1.6), "$.laminate.thickness_mm"),
-    ("eps_r_string", _set(BASE, "laminate.eps_r", "4.4"), "$.laminate.eps_r"),
+    ("future_schema_version", with_field(BASE, "schema_version", 2), "$.schema_version"),
+    ("name_with_space", with_field(BASE, "name", "my antenna"), "$.name"),
+    ("name_empty", with_field(BASE, "name", ""), "$.name"),
+    ("unknown_field", with_field(BASE, "colour", "red"), "colour"),
+    ("typo_field", with_field(_drop(BASE, "trace_width_mm"), "trace_widht_mm", 0.8), "trace_width_mm"),
+    ("unknown_band", with_field(BASE, "target", {"band": "ism_2g5"}), "ism_2g4"),
+    ("center_too_low", with_field(BASE, "target", {"center_mhz": 50}), "$.target.center_mhz"),
+    ("band_edges_reversed", with_field(BASE, "target", {"low_mhz": 930, "high_mhz": 900}), "$.target.high_mhz"),
+    ("band_and_center", with_field(BASE, "target", {"band": "ism_2g4", "center_mhz": 2440}), "$.target"),
+    ("bandwidth_too_wide", with_field(BASE, "target", {"center_mhz": 900, "bandwidth_mhz": 2000}), "$.target.bandwidth_mhz"),
+    ("eps_r_below_one", with_field(BASE, "laminate.eps_r", 0.5), "$.laminate.eps_r"),
+    ("thickness_negative", with_field(BASE, "laminate.thickness_mm", -1.6), "$.laminate.thickness_mm"),
+    ("eps_r_string", with_field(BASE, "laminate.eps_r", "4.4"), "$.laminate.eps_r"),
     ("thickness_missing", _drop(BASE, "laminate.thickness_mm"), "thickness_mm"),
-    ("loss_tangent_huge", _set(BASE, "laminate.loss_tangent", 0.5), "$.laminate.loss_tangent"),
-    ("clearance_too_narrow_schema", _set(BASE, "clearance.width_mm", 1), "$.clearance.width_mm"),
-    ("clearance_depth_zero", _set(BASE, "clearance.depth_mm", 0), "$.clearance.depth_mm"),
-    ("arm_direction_up", _set(BASE, "clearance.arm_direction", "up"), "$.clearance.arm_direction"),
-    ("style_unknown", _set(BASE, "style", {"kind": "zigzag"}), "$.style"),
-    ("meander_without_layout", _set(BASE, "style", {"kind": "meandered"}), "$.style"),
-    ("meander_min_height_above_arm", _set(BASE, "style", {"kind": "meandered", "meander": "fit", "min_height_mm": 9.0}), "$.style.min_height_mm"),
-    ("trace_width_zero", _set(BASE, "trace_width_mm", 0), "$.trace_width_mm"),
-    ("arm_above_clearance", _set(BASE, "arm", {"height_mm": 7.5}), "$.arm.height_mm"),
-    ("arm_length_negative", _set(BASE, "arm", {"length_mm": -3}), "$.arm.length_mm"),
-    ("feed_pad_narrower_than_trace", _set(BASE, "feed.pad_width_mm", 0.3), "$.feed.pad_width_mm"),
-    ("port_gap_zero", _set(BASE, "feed.port_gap_mm", 0), "$.feed.port_gap_mm"),
-    ("too_many_vias", _set(BASE, "short.via_count", 9), "$.short.via_count"),
-    ("via_count_fraction", _set(BASE, "short.via_count", 1.5), "$.short.via_count"),
-    ("via_drill_zero", _set(BASE, "short.via_drill_mm", 0), "$.short.via_drill_mm"),
-    ("fab_unknown", _set(BASE, "fab", {"profile": "cheap"}), "$.fab.profile"),
-    ("fab_limit_negative", _set(BASE, "fab", {"profile": "standard", "min_trace_mm": -1}), "$.fab.min_trace_mm"),
-    ("rotation_45", _set(BASE, "output", {"rotation_deg": 45}), "$.output.rotation_deg"),
-    ("grid_zero", _set(BASE, "output", {"grid_nm": 0}), "$.output.grid_nm"),
+    ("loss_tangent_huge", with_field(BASE, "laminate.loss_tangent", 0.5), "$.laminate.loss_tangent"),
+    ("clearance_too_narrow_schema", with_field(BASE, "clearance.width_mm", 1), "$.clearance.width_mm"),
+    ("clearance_depth_zero", with_field(BASE, "clearance.depth_mm", 0), "$.clearance.depth_mm"),
+    ("arm_direction_up", with_field(BASE, "clearance.arm_direction", "up"), "$.clearance.arm_direction"),
+    ("style_unknown", with_field(BASE, "style", {"kind": "zigzag"}), "$.style"),
+    ("meander_without_layout", with_field(BASE, "style", {"kind": "meandered"}), "$.style"),
+    ("meander_min_height_above_arm", with_field(BASE, "style", {"kind": "meandered", "meander": "fit", "min_height_mm": 9.0}), "$.style.min_height_mm"),
+    ("trace_width_zero", with_field(BASE, "trace_width_mm", 0), "$.trace_width_mm"),
+    ("arm_above_clearance", with_field(BASE, "arm", {"height_mm": 7.5}), "$.arm.height_mm"),
+    ("arm_length_negative", with_field(BASE, "arm", {"length_mm": -3}), "$.arm.length_mm"),
+    ("feed_pad_narrower_than_trace", with_field(BASE, "feed.pad_width_mm", 0.3), "$.feed.pad_width_mm"),
+    ("port_gap_zero", with_field(BASE, "feed.port_gap_mm", 0), "$.feed.port_gap_mm"),
+    ("too_many_vias", with_field(BASE, "short.via_count", 9), "$.short.via_count"),
+    ("via_count_fraction", with_field(BASE, "short.via_count", 1.5), "$.short.via_count"),
+    ("via_drill_zero", with_field(BASE, "short.via_drill_mm", 0), "$.short.via_drill_mm"),
+    ("fab_unknown", with_field(BASE, "fab", {"profile": "cheap"}), "$.fab.profile"),
+    ("fab_limit_negative", with_field(BASE, "fab", {"profile": "standard", "min_trace_mm": -1}), "$.fab.min_trace_mm"),
+    ("rotation_45", with_field(BASE, "output", {"rotation_deg": 45}), "$.output.rotation_deg"),
+    ("grid_zero", with_field(BASE, "output", {"grid_nm": 0}), "$.output.grid_nm"),
     ("ground_plane_missing", _drop(BASE, "ground_plane"), "ground_plane"),
-    ("history_ahead", _set(BASE, "history", [{"revision": 3, "note": "x"}]), "$.history"),
+    ("history_ahead", with_field(BASE, "history", [{"revision": 3, "note": "x"}]), "$.history"),
     ("top_level_list", [1, 2, 3], "$"),
-    ("straight_does_not_fit", _set(BASE, "clearance.width_mm", 8.0), "$.clearance.width_mm"),
-    ("clearance_too_shallow", _set(_set(BASE, "clearance.depth_mm", 1.0), "trace_width_mm", 1.5), "$.clearance.depth_mm"),
-    ("fixed_arm_too_long", _set(BASE, "arm", {"length_mm": 80.0}), "$.arm.length_mm"),
+    ("straight_does_not_fit", with_field(BASE, "clearance.width_mm", 8.0), "$.clearance.width_mm"),
+    ("clearance_too_shallow", with_field(with_field(BASE, "clearance.depth_mm", 1.0), "trace_width_mm", 1.5), "$.clearance.depth_mm"),
+    ("fixed_arm_too_long", with_field(BASE, "arm", {"length_mm": 80.0}), "$.arm.length_mm"),
 ]
 
 
@@ -121,14 +111,14 @@ def test_missing_file(tmp_path: Path) -> None:
 
 def test_did_you_mean_for_typo() -> None:
     with pytest.raises(SpecError, match="did you mean 'trace_width_mm'"):
-        parse_spec(_set(_drop(BASE, "trace_width_mm"), "trace_widht_mm", 0.8))
+        parse_spec(with_field(_drop(BASE, "trace_width_mm"), "trace_widht_mm", 0.8))
 
 
 def test_infeasible_box_names_the_smallest_box_that_works() -> None:
     with pytest.raises(SpecError) as err:
         from footgen.build import run
 
-        run(parse_spec(_set(BASE, "clearance.width_mm", 8.0)))
+        run(parse_spec(with_field(BASE, "clearance.width_mm", 8.0)))
     assert "would work" in str(err.value) and "meandered" in str(err.value)
 
 
@@ -151,22 +141,22 @@ def _box_hint_mm(message: str) -> float:
 def test_box_hint_comes_from_a_real_search_not_its_limit() -> None:
     from footgen.sizing import WIDEST_BOX_MM, size
 
-    data = _set(_set(TEMPLATE_868, "clearance.width_mm", 26.0), "style", {"kind": "straight"})
+    data = with_field(with_field(TEMPLATE_868, "clearance.width_mm", 26.0), "style", {"kind": "straight"})
     with pytest.raises(SpecError) as err:
         size(parse_spec(data), "tline")
     width = _box_hint_mm(str(err.value))
     assert width < WIDEST_BOX_MM and "at least as wide" in str(err.value)
     # the hinted box works (its ground plane as wide as the hint says), one millimetre less does not
-    wide_ground = _set(data, "ground_plane.width_mm", width)
-    assert size(parse_spec(_set(wide_ground, "clearance.width_mm", width)), "tline").arm_length_mm > 0
+    wide_ground = with_field(data, "ground_plane.width_mm", width)
+    assert size(parse_spec(with_field(wide_ground, "clearance.width_mm", width)), "tline").arm_length_mm > 0
     with pytest.raises(SpecError, match="too small"):
-        size(parse_spec(_set(wide_ground, "clearance.width_mm", width - 1)), "tline")
+        size(parse_spec(with_field(wide_ground, "clearance.width_mm", width - 1)), "tline")
 
 
 def test_clearance_wider_than_the_ground_plane_is_said() -> None:
     from footgen.sizing import size
 
-    data = _set(_set(TEMPLATE_868, "clearance.width_mm", 60.0), "ground_plane.width_mm", 30.0)
+    data = with_field(with_field(TEMPLATE_868, "clearance.width_mm", 60.0), "ground_plane.width_mm", 30.0)
     with pytest.raises(SpecError) as err:
         size(parse_spec(data), "tline")
     assert "wider than the ground plane" in str(err.value) and "$.ground_plane.width_mm" in str(err.value)
