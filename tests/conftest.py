@@ -104,17 +104,29 @@ def run_cli(args: list[str], cwd: Path | None = None) -> subprocess.CompletedPro
 NEC2_RUNNER_PATH = Path(__file__).resolve().parent / "data" / "mom" / "nec2_wire_runner.py"
 
 
-def load_nec2_runner():
-    """The nec2++ reference runner module (needs PyPI PyNEC, a test dependency)."""
+def load_module(name: str, path: Path):
+    """The Python file ``path`` loaded as module ``name`` (registered in ``sys.modules``), without
+    writing bytecode beside it."""
     import importlib.util
 
-    pytest.importorskip("PyNEC")
-    spec = importlib.util.spec_from_file_location("nec2_wire_runner", NEC2_RUNNER_PATH)
+    spec = importlib.util.spec_from_file_location(name, path)
     module = importlib.util.module_from_spec(spec)
+    sys.modules[name] = module
     write_bytecode = sys.dont_write_bytecode
-    sys.dont_write_bytecode = True  # keep tests/data free of __pycache__
+    sys.dont_write_bytecode = True  # keep the source tree free of __pycache__
     try:
         spec.loader.exec_module(module)
     finally:
         sys.dont_write_bytecode = write_bytecode
     return module
+
+
+def load_fullwave_module(name: str):
+    """A module of the openEMS reference harness in tests/fullwave/ (e.g. ``ifa_cases``)."""
+    return load_module(name, ROOT / "tests" / "fullwave" / f"{name}.py")
+
+
+def load_nec2_runner():
+    """The nec2++ reference runner module (needs PyPI PyNEC, a test dependency)."""
+    pytest.importorskip("PyNEC")
+    return load_module("nec2_wire_runner", NEC2_RUNNER_PATH)

@@ -6,14 +6,13 @@ Outside truth: openEMS (Debian package ``openems`` 0.0.35+git20190103, FDTD), so
 
 from __future__ import annotations
 
-import importlib.util
 import json
 import os
-import sys
 from pathlib import Path
 
 import numpy as np
 import pytest
+from conftest import load_fullwave_module
 
 FULLWAVE_DIR = Path(__file__).resolve().parent / "fullwave"
 
@@ -39,16 +38,8 @@ MIN_CELLS_ACROSS_TRACE = 4
 MIN_CELLS_ACROSS_PORT_GAP = 3  # common practice for a lumped port, no source
 
 
-def _load_module(name: str):
-    spec = importlib.util.spec_from_file_location(name, FULLWAVE_DIR / f"{name}.py")
-    module = importlib.util.module_from_spec(spec)
-    sys.modules[name] = module
-    spec.loader.exec_module(module)
-    return module
-
-
-ifa_cases = _load_module("ifa_cases")
-driver = _load_module("openems_ifa")
+ifa_cases = load_fullwave_module("ifa_cases")
+driver = load_fullwave_module("openems_ifa")
 CASES = ifa_cases.load_cases()
 CASE_IDS = [c["name"] for c in CASES]
 VALIDATION = [c for c in CASES if c["role"] == "validation"]

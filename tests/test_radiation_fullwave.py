@@ -12,14 +12,13 @@ frequency nearest openEMS's own resonance.
 
 from __future__ import annotations
 
-import importlib.util
 import json
 import math
 import os
-import sys
 from pathlib import Path
 
 import pytest
+from conftest import load_fullwave_module
 
 FULLWAVE_DIR = Path(__file__).resolve().parent / "fullwave"
 RADIATION_DIR = FULLWAVE_DIR / "radiation_results"
@@ -34,15 +33,7 @@ RERUN_EFFICIENCY_REL_TOL = 0.01
 RERUN_GAIN_DB_TOL = 0.1
 
 
-def _load_module(name: str):
-    spec = importlib.util.spec_from_file_location(name, FULLWAVE_DIR / f"{name}.py")
-    module = importlib.util.module_from_spec(spec)
-    sys.modules[name] = module
-    spec.loader.exec_module(module)
-    return module
-
-
-ifa_cases = _load_module("ifa_cases")
+ifa_cases = load_fullwave_module("ifa_cases")
 
 
 def _stored(name: str) -> dict:
@@ -156,7 +147,7 @@ def test_openems_lossless_board_radiates_no_more_than_it_accepts() -> None:
 @pytest.mark.skipif(os.environ.get("FOOTGEN_SLOW") != "1", reason="set FOOTGEN_SLOW=1 (openEMS run)")
 def test_radiation_rerun_reproduces_stored_result(tmp_path: Path) -> None:
     """Rerun the straight board with the stored settings and compare the radiation figures."""
-    driver = _load_module("openems_ifa")
+    driver = load_fullwave_module("openems_ifa")
     stored = _stored(CASES[0])
     driver.SIM_ROOT = tmp_path / "sim"
     driver.END_CRITERION = stored["settings"]["end_criterion"]
