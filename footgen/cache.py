@@ -13,8 +13,6 @@ from __future__ import annotations
 
 import hashlib
 import json
-import os
-import tempfile
 from pathlib import Path
 
 from footgen import sizing_cache
@@ -42,16 +40,4 @@ def store(kind: str, question: str, answer: object) -> None:
     where = folder()
     if where is None:
         return
-    target = where / kind / f"{key(kind, question)}.json"
-    try:
-        target.parent.mkdir(parents=True, exist_ok=True)
-        fd, tmp = tempfile.mkstemp(dir=target.parent, suffix=".tmp")
-        try:
-            with os.fdopen(fd, "w", encoding="utf-8") as handle:
-                json.dump(answer, handle)
-            os.replace(tmp, target)
-        except BaseException:
-            Path(tmp).unlink(missing_ok=True)
-            raise
-    except OSError:
-        return
+    sizing_cache.write_atomic(where / kind, f"{key(kind, question)}.json", json.dumps(answer))

@@ -98,10 +98,10 @@ def store(spec_id: str, model: str, sizing: Sizing) -> None:
     if folder is None:
         return
     key = cache_key(spec_id, model)
-    _write_atomic(folder, f"{key}.json", json.dumps({"key": key, "sizing": _record(sizing)}, sort_keys=True))
+    write_atomic(folder, f"{key}.json", json.dumps({"key": key, "sizing": _record(sizing)}, sort_keys=True))
 
 
-def _write_atomic(folder: Path, name: str, text: str) -> None:
+def write_atomic(folder: Path, name: str, text: str) -> None:
     """Write ``folder / name`` through a temporary file and a rename (skipped on any OSError)."""
     try:
         folder.mkdir(parents=True, exist_ok=True)
@@ -144,4 +144,4 @@ def sync_board_edge() -> None:
     solved = board_edge.solved_cross_sections()
     if len(solved) > _board_edge_state["stored"]:
         _board_edge_state["stored"] = len(solved)
-        _write_atomic(folder, path.name, json.dumps(sorted([*key, eps] for key, eps in solved.items())))
+        write_atomic(folder, path.name, json.dumps(sorted([*key, eps] for key, eps in solved.items())))
