@@ -28,3 +28,32 @@ track = pcbnew.PCB_TRACK(board); track.SetLayer(pcbnew.F_Cu); track.SetNet(sig);
 track.SetStart(pcbnew.VECTOR2I_MM(X0 + 5, Y0 + 3)); track.SetEnd(pcbnew.VECTOR2I_MM(X0 + W - 5, Y0 + 3)); board.Add(track)
 pcbnew.SaveBoard({path_expr}, board)
 """
+
+
+#: How often a GUI driver is started under Xvfb when the virtual display was not up yet.
+XVFB_ATTEMPTS = 3
+
+
+def run_under_xvfb(argv: list[str], env: dict[str, str], kill_after_s: float) -> tuple[str, str]:
+    """Run ``argv`` (a wx driver) on a virtual display; retry only a display that was not up
+    when wx connected (seen on a loaded machine), fail the test on a hang or a non-zero exit.
+    Returns stdout and stderr."""
+    import os
+    import signal
+    import subprocess
+
+    import pytest
+
+    for _attempt in range(XVFB_ATTEMPTS):
+        proc = subprocess.Popen(["xvfb-run", "-a", "-s", "-screen 0 1280x1024x24", *argv],
+                                stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, env=env, start_new_session=True)
+        try:
+            out, err = proc.communicate(timeout=kill_after_s)
+        except subprocess.TimeoutExpired:
+            os.killpg(proc.pid, signal.SIGKILL)  # xvfb-run, Xvfb and the driver: its own session
+            out, err = proc.communicate()
+            pytest.fail(f"the action's dialogs did not finish within {kill_after_s} s:\n{err[-3000:]}")
+        if proc.returncode == 0 or "wxEntryStart failed" not in err:
+            break
+    assert proc.returncode == 0, err[-3000:]
+    return out, err

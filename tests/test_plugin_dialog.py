@@ -11,7 +11,6 @@ import json
 import os
 import shlex
 import shutil
-import signal
 import subprocess
 from pathlib import Path
 
@@ -20,7 +19,7 @@ import pytest
 from conftest import ROOT, footgen_cmd
 from footgen.testrun import kicad_python
 from test_plugin_ipc import MAKE_BOARD, TEMPLATE
-from test_plugin_placement import XVFB_ATTEMPTS
+from plugin_boards import run_under_xvfb
 
 GUI_KILL_S = 300
 
@@ -74,7 +73,6 @@ def test_the_form_proposes_edge_sites_and_places_at_the_chosen_one(kicad, tmp_pa
     (project / "footgen").mkdir(parents=True)
     spec = json.loads(TEMPLATE.read_text("utf-8"))
     spec["name"] = "edge_ifa"
-    spec["fab"].update(min_clearance_mm=0.25, min_copper_to_edge_mm=0.5)
     (project / "footgen" / "edge_ifa.json").write_text(json.dumps(spec, indent=2), "utf-8")
     env = dict(os.environ, KICAD_CONFIG_HOME=str(tmp_path / "kicad-config"), PYTHONPATH=str(ROOT), PYTHONWARNINGS="ignore::DeprecationWarning",
                FOOTGEN_CMD=shlex.join(footgen_cmd()), PYTHONDONTWRITEBYTECODE="1")
@@ -83,19 +81,7 @@ def test_the_form_proposes_edge_sites_and_places_at_the_chosen_one(kicad, tmp_pa
     driver = tmp_path / "gui.py"
     driver.write_text(DRIVER, "utf-8")
     shot = tmp_path / "plugin-form-new.png"
-    for _attempt in range(XVFB_ATTEMPTS):
-        proc = subprocess.Popen(["xvfb-run", "-a", "-s", "-screen 0 1280x1024x24", kicad_python(), str(driver), str(board), str(shot)],
-                                stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, env=env, start_new_session=True)
-        try:
-            out, err = proc.communicate(timeout=GUI_KILL_S)
-        except subprocess.TimeoutExpired:
-            os.killpg(proc.pid, signal.SIGKILL)
-            out, err = proc.communicate()
-            pytest.fail(f"the action's dialogs did not finish within {GUI_KILL_S} s:\n{err[-3000:]}")
-        # a virtual display that was not up yet when wx connected is retried, nothing else
-        if proc.returncode == 0 or "wxEntryStart failed" not in err:
-            break
-    assert proc.returncode == 0, err[-3000:]
+    out, _ = run_under_xvfb([kicad_python(), str(driver), str(board), str(shot)], env, GUI_KILL_S)
     got = json.loads(out.strip().splitlines()[-1])
     form, result = got["seen"][0], got["seen"][-1]
     assert [s["title"] for s in got["seen"]] == ["footgen: printed IFA antenna", "footgen: printed IFA antenna: result"]

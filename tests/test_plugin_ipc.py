@@ -76,7 +76,6 @@ def editor(tmp_path_factory: pytest.TempPathFactory):
     (project / "footgen").mkdir(parents=True)
     spec = json.loads(TEMPLATE.read_text("utf-8"))
     spec["name"] = "edge_ifa"
-    spec["fab"].update(min_clearance_mm=0.25, min_copper_to_edge_mm=0.5)
     (project / "footgen" / "edge_ifa.json").write_text(json.dumps(spec, indent=2), "utf-8")
     env = dict(os.environ, KICAD_CONFIG_HOME=str(_kicad_config(tmp)), TMPDIR=str(tmp / "tmp"), PYTHONWARNINGS="ignore::DeprecationWarning")
     board = project / "board.kicad_pcb"

@@ -11,7 +11,6 @@ import json
 import os
 import shlex
 import shutil
-import signal
 import subprocess
 import sys
 from pathlib import Path
@@ -19,6 +18,7 @@ from pathlib import Path
 import pytest
 
 from conftest import ROOT, footgen_cmd
+from plugin_boards import run_under_xvfb
 from footgen.testrun import DrcReport, kicad_python, run_drc
 from footgen.plugin import cli_runner
 from footgen.plugin.placement import PlacementError, ensure_project_library, install_footprint, library_table_names, stackup_laminate
@@ -521,8 +521,6 @@ print(json.dumps(seen), flush=True)
 """
 
 
-#: Starts of the virtual display tried before the dialog test gives up on Xvfb.
-XVFB_ATTEMPTS = 3
 
 
 @pytest.mark.kicad
@@ -542,22 +540,7 @@ def test_the_action_regenerates_through_its_dialogs(placed: dict, tmp_path: Path
     (before,) = _describe(board, tmp_path)
     driver = tmp_path / "gui.py"
     driver.write_text(RUN_ACTION_HEADLESS, "utf-8")
-    for _attempt in range(XVFB_ATTEMPTS):
-        proc = subprocess.Popen(
-            ["xvfb-run", "-a", "-s", "-screen 0 1280x1024x24", kicad_python(), str(driver), str(board), str(tmp_path)],
-            stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, env=_env(tmp_path), start_new_session=True,
-        )
-        try:
-            out, err = proc.communicate(timeout=GUI_KILL_S)
-        except subprocess.TimeoutExpired:
-            os.killpg(proc.pid, signal.SIGKILL)  # xvfb-run, Xvfb and the driver: its own session
-            out, err = proc.communicate()
-            pytest.fail(f"the action's dialogs did not finish within {GUI_KILL_S} s:\n{err[-3000:]}")
-        # The virtual display itself sometimes is not up yet when wx connects (seen once in a
-        # full run on a loaded machine): that, and only that, is retried.
-        if proc.returncode == 0 or "wxEntryStart failed" not in err:
-            break
-    assert proc.returncode == 0, err[-3000:]
+    out, _ = run_under_xvfb([kicad_python(), str(driver), str(board), str(tmp_path)], _env(tmp_path), GUI_KILL_S)
     seen = json.loads(out.strip().splitlines()[-1])
     assert [d["title"] for d in seen] == ["footgen: printed IFA antenna", "footgen: printed IFA antenna: result"]
     form = seen[0]["texts"]
