@@ -43,27 +43,26 @@ class Violation:
     severity: str = "error"
     #: The spec field (JSON path) to change, and a value for it that passes this rule.
     field: str = ""
-    fix_value: float = 0.0
+    fix_value: float | str = 0.0  # a string for a choice field (e.g. a package)
 
     def line(self) -> str:
         return (
             f"{self.severity}: {self.rule}: {self.message}: measured {self.measured_mm:.4f} mm, "
             f"allowed >= {self.allowed_mm:.4f} mm at ({self.x_mm:.3f}, {self.y_mm:.3f}) mm; "
-            f"fix: set {self.field} to {_fix_text(self.field, self.fix_value)}"
+            f"fix: set {self.field} to {_fmt(self.fix_value)}"
         )
 
     def as_dict(self) -> dict:
         data = asdict(self)
         for key in ("measured_mm", "allowed_mm", "x_mm", "y_mm", "fix_value"):
-            data[key] = round(data[key], 6)
+            if isinstance(data[key], float):
+                data[key] = round(data[key], 6)
         return data
 
 
-def _fix_text(field: str, value: float) -> str:
-    return f'"{int(value):04d}"' if field.endswith(".package") else _fmt(value)
-
-
-def _fmt(value: float) -> str:
+def _fmt(value: float | str) -> str:
+    if isinstance(value, str):
+        return f'"{value}"'
     return f"{value:.3f}".rstrip("0").rstrip(".")
 
 
@@ -268,17 +267,17 @@ def _fix_hole_clearance(v: Violation, layout: Layout, fab: FabLimits) -> tuple[s
     return "$.short.via_count", 0.0
 
 
-def _fix_matching_pads(v: Violation, layout: Layout, fab: FabLimits) -> tuple[str, float]:
+def _fix_matching_pads(v: Violation, layout: Layout, fab: FabLimits) -> tuple[str, float | str]:
     if "ground pour" in v.message:  # a land too close to the pour: set the pour further back
         return "$.feed.port_gap_mm", _up(layout.dims["port_gap_mm"] + _deficit(v))
     return "$.matching_network.package", LARGER_PACKAGE  # lands too close to each other
 
 
 #: The matching-network package whose lands stand further apart (written as "0603").
-LARGER_PACKAGE = 603.0
+LARGER_PACKAGE = "0603"
 
 
-FIXES: dict[str, Callable[[Violation, Layout, FabLimits], tuple[str, float]]] = {
+FIXES: dict[str, Callable[[Violation, Layout, FabLimits], tuple[str, float | str]]] = {
     "trace_width": lambda v, layout, fab: ("$.trace_width_mm", _up(v.allowed_mm)),
     "copper_clearance": _fix_turn_gap,
     "ground_edge_distance": lambda v, layout, fab: ("$.feed.port_gap_mm", _up(layout.dims["port_gap_mm"] + _deficit(v))),
