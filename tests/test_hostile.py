@@ -10,7 +10,6 @@ import json
 import math
 import resource
 import subprocess
-import sys
 from pathlib import Path
 
 import pytest
