@@ -291,7 +291,7 @@ def test_board_edge_shift_matches_openems() -> None:
 RESONANCE_GOAL_REL_TOL = 0.02
 
 
-@pytest.mark.xfail(strict=True, reason="known miss of the +-2 % goal: worst +2.29 % (val_meander_a), -2.23 % (val_straight_a)")
+@pytest.mark.xfail(strict=True, reason="known miss of the +-2 % goal: worst -2.40 % (val_straight_a), +2.29 % (val_meander_a)")
 def test_predicted_resonance_within_the_2_percent_goal() -> None:
     rows = _validation_errors()
     # source: openEMS 0.0.35 (Debian package, FDTD) stored results, f at min |S11|
@@ -299,11 +299,12 @@ def test_predicted_resonance_within_the_2_percent_goal() -> None:
 
 
 #: Our own MoM model's discretisation: the default mesh against a much finer one (lambda/30 grid,
-#: w/4 edge rows, lambda/80 segments), f at min |S11| on the development cases (measured 0.01 %,
-#: 0.03 %, 0.35 %).  A self-consistency check, not outside truth.
+#: w/4 edge rows, lambda/80 segments, no grading away from the antenna), f at min |S11| on the
+#: development cases (measured 0.01 %, 0.03 %, 0.35 %).  A self-consistency check, not outside truth.
 MOM_MESH_CONVERGENCE_REL_TOL = 0.005
 FINE_MOM_MESH = {"grid_pitch_per_wavelength": 30.0, "grid_segments_per_wavelength": 30.0,
-                 "edge_row_trace_widths": 0.25, "segments_per_wavelength": 80.0, "detail_segments": 8.0}
+                 "edge_row_trace_widths": 0.25, "segments_per_wavelength": 80.0, "detail_segments": 8.0,
+                 "grid_far_pitch_per_wavelength": None}
 
 
 @pytest.mark.parametrize("case", [c for c in CASES if c["role"] == "development"], ids=lambda c: c["name"])
