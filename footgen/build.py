@@ -6,7 +6,7 @@ Everything here returns data; :func:`write_build` is the one place that touches 
 from __future__ import annotations
 
 import json
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from functools import cached_property
 from pathlib import Path
 from typing import TYPE_CHECKING
@@ -209,11 +209,16 @@ def build_spec_file(spec_path: Path, out_dir: Path, *, force: bool = False, allo
     return result, write_build(result, out_dir, force=force, allow_violations=allow_violations)
 
 
+def with_png(spec: Spec) -> Spec:
+    """``spec`` with the PNG of its drawing asked for (as ``output.drawing_png: true`` does)."""
+    return replace(spec, output=replace(spec.output, drawing_png=True))
+
+
 def build_spec_files(spec_paths: list[Path], out_dir: Path, *, force: bool = False,
-                     allow_violations: bool = False) -> list[tuple[BuildResult, list[Path]]]:
+                     allow_violations: bool = False, png: bool = False) -> list[tuple[BuildResult, list[Path]]]:
     """Build several specs into one folder in one process.  Every spec is loaded, sized and
     checked before anything is written, so bad input in any of them leaves the disk untouched;
-    an error names the spec file it came from."""
+    an error names the spec file it came from.  ``png``: write every drawing's PNG too."""
     results: list[BuildResult] = []
     names: dict[str, Path] = {}
 
@@ -226,6 +231,8 @@ def build_spec_files(spec_paths: list[Path], out_dir: Path, *, force: bool = Fal
             raise
 
     specs = [(path, naming(path, lambda path=path: load_spec(path))) for path in spec_paths]
+    if png:
+        specs = [(path, with_png(spec)) for path, spec in specs]
     targets = sorted({rel for _, spec in specs for rel in output_names(spec).values()})
     precheck_edits(Path(out_dir), targets, force=force)  # every edited file, before any solve
     for path, spec in specs:

@@ -97,8 +97,8 @@ def mom_solver(ifa: PrintedIfa, f_max_hz: float, mesh: dict[str, float] | None =
     from footgen.physics.mom import MomSolver
     from footgen.physics.wires import MeshControl, ifa_wire_model
 
-    mesh_hz = _mom_mesh_hz(ifa, f_max_hz)
     sizing_cache.sync_board_edge()  # board-edge 2-D solves of earlier runs: load once per process
+    mesh_hz = _mom_mesh_hz(ifa, f_max_hz)  # (the quarter-wave estimate needs them too)
     solver = MomSolver(ifa_wire_model(ifa, mesh_hz, control=MeshControl(f_max_hz=mesh_hz, **(mesh or {}))), mixed_precision=mixed_precision)
     sizing_cache.sync_board_edge()  # keep any new ones for later runs
     return solver
@@ -375,6 +375,7 @@ def size(spec: Spec, model: str = DEFAULT_MODEL) -> Sizing:
     cached = sizing_cache.load(key, model)
     if cached is not None:
         return cached
+    sizing_cache.sync_board_edge()  # the start model sees the board edge too
     start = _size_with(spec, START_MODEL)
     size_check = MODELS[model].size_check
     if size_check is not None:  # a model too big to solve is refused before the search, not after

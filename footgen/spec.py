@@ -372,7 +372,7 @@ def parse_spec(data: object) -> Spec:
         output=OutputSpec(
             rotation_deg=int(out.get("rotation_deg", 0)),
             grid_nm=int(out.get("grid_nm", 1)),
-            drawing_png=bool(out.get("drawing_png", True)),
+            drawing_png=bool(out.get("drawing_png", False)),
         ),
         raw=data,
     )
