@@ -187,3 +187,27 @@ def test_report_and_description_name_the_wall(tmp_path: Path) -> None:
     spec = parse_spec(COVERED)
     assert "enclosure wall (eps_r 3, 2 mm thick, 1 mm from the copper)" in footprint_meta(spec).description
     assert "enclosure" not in footprint_meta(parse_spec(BASE)).description
+
+
+def test_covered_cross_sections_are_carried_to_a_new_process(tmp_path: Path, monkeypatch) -> None:
+    import os
+    import subprocess
+    import sys
+
+    from footgen import sizing_cache
+    from footgen.physics import board_edge
+
+    cache = tmp_path / "cache"
+    monkeypatch.setenv(sizing_cache.CACHE_ENV, str(cache))
+    solved = equivalent_eps_r_strip_covered(0.8e-3, 5e-3, 4.4, 1.6e-3, None, Cover(3.0, 2e-3, 1e-3))
+    monkeypatch.setattr(sizing_cache, "_board_edge_state", {"loaded": False, "stored": 0})
+    sizing_cache.sync_board_edge()
+    r = board_edge._rounded
+    key = (r(0.8e-3), r(4.6e-3), 4.4, r(1.6e-3), None, 3.0, r(1e-3), r(2e-3))
+    assert board_edge.solved_covered_cross_sections()[key] == solved
+    code = ("import json, sys; from footgen import sizing_cache; from footgen.physics import board_edge;"
+            "sizing_cache.sync_board_edge(); key = tuple(json.loads(sys.argv[1]));"
+            "print(json.dumps(board_edge.solved_covered_cross_sections()[key]))")
+    out = subprocess.run([sys.executable, "-c", code, json.dumps(list(key))], capture_output=True, text=True,
+                         check=True, env=dict(os.environ, FOOTGEN_CACHE_DIR=str(cache)))
+    assert tuple(json.loads(out.stdout)) == solved

@@ -157,6 +157,19 @@ def equivalent_laminate(ifa: PrintedIfa) -> Laminate:
 _SOLVED_COVERED: dict[tuple, tuple[float, float]] = {}
 
 
+def solved_covered_cross_sections() -> dict[tuple, tuple[float, float]]:
+    """A copy of the covered cross-sections solved (or added) so far in this process."""
+    return dict(_SOLVED_COVERED)
+
+
+def add_solved_covered(entries: dict[tuple, tuple[float, float]]) -> None:
+    """Take covered cross-sections solved earlier by this same code (keys as in
+    :func:`solved_covered_cross_sections`)."""
+    for key, value in entries.items():
+        _SOLVED_COVERED.setdefault(tuple(None if v is None else float(v) for v in key),
+                                   (float(value[0]), float(value[1])))
+
+
 def _check_cover(cover: Cover) -> None:
     if not (math.isfinite(cover.eps_r) and cover.eps_r >= 1.0):
         raise SolverError(f"cover eps_r = {cover.eps_r!r}: relative permittivity must be finite and >= 1")
