@@ -12,11 +12,17 @@ from pathlib import Path
 
 import pytest
 from click.testing import CliRunner
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from conftest import ROOT, load_fullwave_module, load_json, with_field
 
 from footgen.cli import main
 from footgen.errors import SolverError, SpecError
-from footgen.physics.board_edge import equivalent_eps_r_strip_covered, equivalent_laminate
+from footgen.physics.board_edge import (
+    equivalent_eps_r_strip_at_board_edge,
+    equivalent_eps_r_strip_covered,
+    equivalent_laminate,
+)
 from footgen.physics.ifa import Cover
 from footgen.physics.quasistatic2d import (
     Layer,
@@ -152,6 +158,25 @@ def test_lossless_wall_lowers_the_equivalent_loss_tangent() -> None:
 def test_wall_without_board_edge_is_modelled_too() -> None:
     open_board = dataclasses.replace(BOARD, board_edge_y_m=None)
     assert equivalent_laminate(dataclasses.replace(open_board, cover=Cover(3.0, 2e-3, 1e-3))).eps_r > BOARD.laminate.eps_r
+
+
+@settings(max_examples=3, deadline=None)
+@given(eps_c=st.floats(1.5, 6.0), thickness_mm=st.floats(0.5, 5.0), distance_mm=st.floats(0.2, 8.0),
+       height_mm=st.floats(2.0, 10.0))
+def test_any_wall_raises_the_equivalent_permittivity_and_adds_no_loss(
+        eps_c: float, thickness_mm: float, distance_mm: float, height_mm: float) -> None:
+    """Any wall raises the equivalent eps_r over the bare board's, a denser one more, and never
+    raises the loss tangent (the wall is lossless)."""
+    w, t, lam = BOARD.trace_width_m, BOARD.laminate.thickness_m, BOARD.laminate
+    bare = equivalent_eps_r_strip_at_board_edge(w, height_mm * 1e-3, lam.eps_r, t, 2e-3)
+
+    def solve(eps: float) -> tuple[float, float]:
+        return equivalent_eps_r_strip_covered(w, height_mm * 1e-3, lam.eps_r, t, 2e-3,
+                                              Cover(eps, thickness_mm * 1e-3, distance_mm * 1e-3))
+
+    (eps_lo, loss_lo), (eps_hi, loss_hi) = solve(eps_c), solve(eps_c + 1.0)
+    assert bare < eps_lo < eps_hi
+    assert 0.0 < loss_hi < loss_lo < 1.0
 
 
 @pytest.mark.parametrize("cover", [Cover(0.5, 2e-3, 1e-3), Cover(3.0, 0.0, 1e-3), Cover(3.0, 2e-3, -1e-3),
