@@ -236,3 +236,13 @@ def test_covered_cross_sections_are_carried_to_a_new_process(tmp_path: Path, mon
     out = subprocess.run([sys.executable, "-c", code, json.dumps(list(key))], capture_output=True, text=True,
                          check=True, env=dict(os.environ, FOOTGEN_CACHE_DIR=str(cache)))
     assert tuple(json.loads(out.stdout)) == solved
+
+
+def test_line_model_sees_the_wall_too() -> None:
+    """The transmission-line start point of the sizing lowers its estimate under a wall as well,
+    and a wall of eps_r 1 leaves it as it is without one."""
+    from footgen.physics.tline_ifa import quarter_wave_estimate_hz
+
+    bare = quarter_wave_estimate_hz(BOARD)
+    assert quarter_wave_estimate_hz(dataclasses.replace(BOARD, cover=Cover(3.0, 2e-3, 1e-3))) < bare
+    assert quarter_wave_estimate_hz(dataclasses.replace(BOARD, cover=Cover(1.0, 2e-3, 1e-3))) == bare

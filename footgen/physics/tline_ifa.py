@@ -421,14 +421,14 @@ def line_constants(
 
 
 def line_laminate(ifa: PrintedIfa) -> Laminate:
-    """The laminate the line sections see: ``ifa.laminate`` (laterally infinite); with an
-    enclosure wall (``ifa.cover``), the equivalent slab of :mod:`footgen.physics.board_edge`
-    that holds the wall (and the board edge) as well."""
+    """The laminate the line sections see: ``ifa.laminate`` (laterally infinite, as this model
+    takes it); with an enclosure wall (``ifa.cover``), the equivalent slab of
+    :mod:`footgen.physics.board_edge` that holds the wall over that laterally infinite laminate."""
     if ifa.cover is None:
         return ifa.laminate
     from footgen.physics.board_edge import equivalent_laminate
 
-    return equivalent_laminate(ifa)
+    return equivalent_laminate(replace(ifa, board_edge_y_m=None))
 
 
 def _line_at_height(
