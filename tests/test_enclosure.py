@@ -246,3 +246,11 @@ def test_line_model_sees_the_wall_too() -> None:
     bare = quarter_wave_estimate_hz(BOARD)
     assert quarter_wave_estimate_hz(dataclasses.replace(BOARD, cover=Cover(3.0, 2e-3, 1e-3))) < bare
     assert quarter_wave_estimate_hz(dataclasses.replace(BOARD, cover=Cover(1.0, 2e-3, 1e-3))) == bare
+
+
+def test_wall_errors_name_the_enclosure_section() -> None:
+    from footgen.explain import translate
+
+    with pytest.raises(SolverError) as err:
+        equivalent_eps_r_strip_covered(0.8e-3, 5e-3, 4.4, 1.6e-3, 2e-3, Cover(3.0, 2e-3, 0.0))
+    assert translate(err.value, COVERED).path == "$.enclosure"

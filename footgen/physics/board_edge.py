@@ -172,8 +172,8 @@ def add_solved_covered(entries: dict[tuple, tuple[float, float]]) -> None:
 
 def _check_cover(cover: Cover) -> None:
     if not (math.isfinite(cover.eps_r) and cover.eps_r >= 1.0):
-        raise SolverError(f"cover eps_r = {cover.eps_r!r}: relative permittivity must be finite and >= 1")
-    for name, value in (("cover thickness_m", cover.thickness_m), ("cover distance_m", cover.distance_m)):
+        raise SolverError(f"enclosure wall eps_r = {cover.eps_r!r}: relative permittivity must be finite and >= 1")
+    for name, value in (("enclosure wall thickness_m", cover.thickness_m), ("enclosure wall distance_m", cover.distance_m)):
         if not (math.isfinite(value) and value > 0.0):
             raise SolverError(f"{name} = {value!r}: must be finite and > 0")
 
