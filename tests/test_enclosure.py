@@ -206,12 +206,22 @@ def test_wall_lowers_the_resonance_more_when_closer_and_denser() -> None:
     assert 0.01 < 1.0 - near / bare < 0.1
 
 
-def test_report_and_description_name_the_wall(tmp_path: Path) -> None:
-    from footgen.build import footprint_meta
-
-    spec = parse_spec(COVERED)
-    assert "enclosure wall (eps_r 3, 2 mm thick, 1 mm from the copper)" in footprint_meta(spec).description
-    assert "enclosure" not in footprint_meta(parse_spec(BASE)).description
+def test_build_under_a_wall_names_it_and_sizes_a_shorter_arm(tmp_path: Path) -> None:
+    """End to end: the footprint's description and the report name the wall, and the arm sized
+    under it is shorter than the bare board's (the wall lowers the resonance)."""
+    arms = {}
+    for name, data in (("bare", BASE), ("covered", COVERED)):
+        spec = tmp_path / f"{name}.json"
+        spec.write_text(json.dumps(data), "utf-8")
+        result = CliRunner().invoke(main, ["build", str(spec), "-o", str(tmp_path / name)])
+        assert result.exit_code == 0, result.output
+        report = (tmp_path / name / f"{data['name']}.report.md").read_text("utf-8")
+        footprint = next((tmp_path / name).rglob("*.kicad_mod")).read_text("utf-8")
+        words = "eps_r 3, 2 mm thick, 1 mm from the copper"
+        assert (f"| enclosure wall over the copper | {words} |" in report) == (name == "covered")
+        assert (f"sized under an enclosure wall ({words})" in footprint) == (name == "covered")
+        arms[name] = float(report.split("| arm length (centreline, from above the short) | ")[1].split(" mm")[0])
+    assert arms["covered"] < arms["bare"]
 
 
 def test_covered_cross_sections_are_carried_to_a_new_process(tmp_path: Path, monkeypatch) -> None:
