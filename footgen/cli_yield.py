@@ -23,10 +23,11 @@ import click
 @click.option("--check", "checks", default=8, show_default=True, type=click.IntRange(0, 100_000),
               help="Samples also solved in full to check the surrogate.")
 @click.option("--full", is_flag=True, help="Solve every sample in full (brute force; slow) instead of the surrogate.")
+@click.option("--model", default=None, help="Response model of the full solves: mom (default) or tline (fast, rough).")
 @click.option("--centre", is_flag=True, help="Also search the arm length and feed tap that maximise the yield.")
 @click.option("--force", is_flag=True, help="Replace files edited by hand.")
 def yield_cmd(spec: Path, samples: int, seed: int, json_path: Path | None, plot: Path | None, scheduler: str | None,
-              workers: int | None, checks: int, full: bool, centre: bool, force: bool) -> None:
+              workers: int | None, checks: int, full: bool, model: str | None, centre: bool, force: bool) -> None:
     """Monte Carlo yield of the built antenna under the spec's tolerances (laminate, etch,
     copper, ground plane, matching parts, enclosure): the share of boards with S11 <= -10 dB
     (and <= -6 dB) over the whole target band, and which tolerance matters most.
@@ -41,6 +42,11 @@ def yield_cmd(spec: Path, samples: int, seed: int, json_path: Path | None, plot:
     from footgen.yieldmc.run import run_yield
     from footgen.yieldmc.text import summary_lines
 
+    from footgen.sizing import DEFAULT_MODEL, MODELS
+
+    name = model or DEFAULT_MODEL
+    if name not in MODELS:
+        raise click.BadParameter(f"{name!r}: choose one of {', '.join(MODELS)}", param_hint="--model")
     if full and centre:
         raise click.BadParameter("--centre works on the surrogate; leave out --full", param_hint="--centre")
     loaded = load_spec(spec)
@@ -61,7 +67,7 @@ def yield_cmd(spec: Path, samples: int, seed: int, json_path: Path | None, plot:
 
     with executors.runner(scheduler, workers) as run_on:
         click.echo(f"yield: {samples} samples, seed {seed}, on {run_on.describe()}", err=True)
-        report = run_yield(loaded, samples, seed, run_on, checks=checks, full=full, centre=centre, progress=progress)
+        report = run_yield(loaded, samples, seed, run_on, checks=checks, full=full, centre=centre, progress=progress, model=name)
     for line in summary_lines(report):
         click.echo(line)
     files: dict[Path, bytes] = {}

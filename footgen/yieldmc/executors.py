@@ -108,7 +108,7 @@ class DaskRunner:
         from distributed import as_completed
 
         futures = [self._client.submit(fn, *a, pure=False) for a in args]
-        return _collect(futures, as_completed(futures), lambda f: f.result(), progress)
+        return _collect(futures, as_completed(futures, loop=self._client.loop), lambda f: f.result(), progress)
 
 
 def runner(scheduler: str | None = None, workers: int | None = None):

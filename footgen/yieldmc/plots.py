@@ -15,10 +15,16 @@ BAND_COLOR = "#c6f6d5"
 SAMPLE_COLOR = "#2b6cb0"
 NOMINAL_COLOR = "#c53030"
 LEVEL_COLOR = "#4a5568"
+#: Room between the two histogram panels (fraction of a panel's width): the outer tick labels
+#: stay apart.
+PANEL_GAP = 0.22
+#: At most this many frequency ticks: four-digit MHz labels stay apart.
+MAX_TICKS = 6
 
 
 def _histograms(report: YieldReport):
     from matplotlib.figure import Figure
+    from matplotlib.ticker import MaxNLocator
 
     spec = report.spec
     o = report.nominal
@@ -39,16 +45,18 @@ def _histograms(report: YieldReport):
     s11_ax.set_xlabel("worst S11 in the target band (dB)", fontsize=8)
     s11_ax.set_title(f"yield {100 * s['yield_10db']:.1f} % at -10 dB, {100 * s['yield_6db']:.1f} % at -6 dB", fontsize=9)
     for ax in (res_ax, s11_ax):
+        ax.xaxis.set_major_locator(MaxNLocator(MAX_TICKS))
         ax.tick_params(labelsize=7)
         ax.grid(True, lw=0.3)
         ax.legend(fontsize=7, loc="upper center", bbox_to_anchor=(0.5, -0.16), ncol=4, frameon=False)
     fig.suptitle(f"{spec.name}: {s['samples']} boards ({report.method}, seed {report.seed})", fontsize=10)
-    fig.tight_layout()
+    fig.subplots_adjust(left=0.07, right=0.98, top=0.86, bottom=0.24, wspace=PANEL_GAP)
     return fig
 
 
 def _cloud(report: YieldReport):
     from matplotlib.figure import Figure
+    from matplotlib.ticker import MaxNLocator
 
     spec = report.spec
     grids = report.grids
@@ -68,6 +76,7 @@ def _cloud(report: YieldReport):
     ax.set_ylim(max(float(np.min(curves)) if curves.size else -30.0, -45.0) - 1.0, 0.5)
     ax.set_xlabel("frequency (MHz)", fontsize=8)
     ax.set_ylabel("|S11| (dB)", fontsize=8)
+    ax.xaxis.set_major_locator(MaxNLocator(MAX_TICKS))
     ax.tick_params(labelsize=7)
     ax.grid(True, lw=0.3)
     ax.set_title(f"{spec.name}: S11 of {curves.shape[0]} of {o.figures.worst_db.size} boards ({report.method})", fontsize=9)

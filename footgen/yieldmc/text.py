@@ -16,9 +16,9 @@ def _outcome_lines(o: Outcome, band: str, method: str) -> list[str]:
     y = f"{_pct(s['yield_10db'])} +- {_pct(s['sampling_error_10db'])} (sampling)"
     check = s["surrogate_check"]
     if method == "surrogate" and check and check["samples"]:
-        y += (f" +- {_pct(s['yield_10db_model_error'])} (surrogate: worst in-band S11 within "
-              f"{fixed(check['worst_s11_max_abs_db'], 2)} dB, resonance within {fixed(check['resonance_max_abs_mhz'], 2)} MHz "
-              f"of full solves on {check['samples']} samples)")
+        y += (f" +- {_pct(s['yield_10db_model_error'])} (surrogate: boards within {fixed(s['stated_s11_error_db'], 2)} dB of -10 dB; "
+              f"on {check['samples']} samples solved in full its worst in-band S11 was within {fixed(check['worst_s11_max_abs_db'], 2)} dB, "
+              f"its resonance within {fixed(check['resonance_max_abs_mhz'], 2)} MHz)")
     res, nom = s["resonance_mhz"], s["nominal"]
     return [
         f"yield, S11 <= -10 dB over {band}: {y}",
@@ -33,7 +33,7 @@ def _outcome_lines(o: Outcome, band: str, method: str) -> list[str]:
 def summary_lines(report: YieldReport) -> list[str]:
     spec = report.spec
     band = f"{spec.target.low_hz / 1e6:.1f}-{spec.target.high_hz / 1e6:.1f} MHz"
-    lines = [f"method: {'surrogate, checked against full MoM solves' if report.method == 'surrogate' else 'full MoM solve of every sample'}; "
+    lines = [f"method: {'surrogate, checked against full solves' if report.method == 'surrogate' else 'full solve of every sample'} ({report.model} model); "
              f"{report.nominal.figures.worst_db.size} samples, seed {report.seed}"]
     lines += _outcome_lines(report.nominal, band, report.method)
     if report.sensitivities:
