@@ -246,3 +246,53 @@ def test_plot_labels_do_not_overlap(spread_run) -> None:
         for i, (text_a, a) in enumerate(texts):
             for text_b, b in texts[i + 1:]:
                 assert not a.overlaps(b), (make.__name__, text_a, text_b)
+
+
+# ------------------------------------------------------- matching parts, enclosure, centring
+
+
+def test_matching_part_tolerances_act_exactly_on_the_fitted_network() -> None:
+    """A feed tap far from the match: footgen match fits parts, and their E12 tolerance (+-10 %)
+    is the only spread; parts act on Zin exactly, so surrogate and full solves agree to rounding."""
+    data = _spec(_only(matching_parts={"series": "E12"}), matching_network={"network": "pi", "package": "0402"})
+    data["arm"]["feed_short_spacing_mm"] = 4.5
+    report = _run(data, 200, checks=3, model="tline")
+    parts = [p for p in report.params if p.on_parts]
+    assert parts and all(p.half_width == 10.0 and "matching part" in p.label for p in parts)
+    assert {r["name"] for r in report.sensitivities} == {p.key for p in parts}
+    check = report.as_dict()["surrogate_check"]
+    assert check["worst_s11_max_abs_db"] < 1e-6
+    spread = report.nominal.figures.worst_db
+    assert np.ptp(spread) > 0.01  # the parts' tolerance does move the match
+
+
+def test_enclosure_perturbations_change_the_wall_when_there_is_one() -> None:
+    from dataclasses import dataclass
+
+    @dataclass(frozen=True)
+    class Wall:
+        eps_r: float
+        thickness_m: float
+        distance_m: float
+
+    @dataclass(frozen=True)
+    class Board:
+        cover: Wall
+
+    board = Board(Wall(3.0, 2e-3, 1e-3))
+    assert tol.PERTURBATIONS["enclosure_eps_r"](board, 10).cover.eps_r == pytest.approx(3.3)
+    assert tol.PERTURBATIONS["enclosure_thickness"](board, -10).cover.thickness_m == pytest.approx(1.8e-3)
+    assert tol.PERTURBATIONS["enclosure_distance"](board, 0.3).cover.distance_m == pytest.approx(1.3e-3)
+
+
+def test_centring_never_lowers_the_yield_and_reports_both_designs() -> None:
+    data = _spec(_only(laminate_eps_r={"plus_minus_percent": 10, "distribution": "uniform"}))
+    data["arm"]["length_mm"] = 18.6  # built a little long: resonance below the band centre
+    report = _run(data, 300, checks=2, model="tline", centre=True)
+    out = report.as_dict()
+    centred = out["centred"]
+    assert centred["yield_10db"] >= out["yield_10db"]  # the search includes the built design
+    d = centred["design_mm"]
+    assert d["arm_length_mm"] == pytest.approx(18.6 + d["arm_length_change_mm"], abs=1e-3)
+    assert abs(d["arm_length_change_mm"]) <= yr.ARM_STEP_MM and abs(d["feed_tap_change_mm"]) <= yr.TAP_STEP_MM
+    assert centred["surrogate_check"]["samples"] == 2

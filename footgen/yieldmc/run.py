@@ -27,7 +27,7 @@ from footgen.yieldmc import tolerance as tol
 
 #: Evaluation grid: band centre +- max(EVAL_HALF_SPAN, EVAL_BAND_MARGIN x the band's half-width)
 #: in EVAL_POINTS points, plus BAND_POINTS points across the target band itself.
-EVAL_HALF_SPAN = 0.05
+EVAL_HALF_SPAN = 0.08
 EVAL_BAND_MARGIN = 1.5
 EVAL_POINTS = 41
 BAND_POINTS = 21
@@ -41,12 +41,11 @@ TRUST_DB = 1.0
 #: multiple of the largest surrogate-vs-full-solve disagreement seen on the check samples of the
 #: -10 dB level (a few check samples see less than the largest disagreement there is).
 STATED_ERROR_FACTOR = 2.0
-#: Design centring: arm length and feed tap finite-difference steps and search ranges (mm).
-ARM_STEP_MM = 0.5
-TAP_STEP_MM = 0.15
-ARM_RANGE_MM = 1.0
-TAP_RANGE_MM = 0.3
-ARM_GRID = 21
+#: Design centring: arm length and feed tap finite-difference steps (mm); the search stays
+#: within them (the surrogate interpolates there), and the design found is solved afresh.
+ARM_STEP_MM = 0.6
+TAP_STEP_MM = 0.3
+ARM_GRID = 25
 TAP_GRID = 7
 DESIGN_KEYS = ("arm_length", "feed_tap")
 MODEL = "mom"
@@ -198,6 +197,39 @@ def _matching_parts(spec: Spec, grids: sg.Grids, wide_zin: np.ndarray) -> tuple:
 Progress = Callable[[str, int, int], None]
 
 
+@dataclass
+class _Solved:
+    """The full solves of one design: Zin on the wide sweep and the evaluation grid, at -+ each
+    swept parameter's step (rows), and of the full-solve samples."""
+
+    wide: np.ndarray
+    nominal: np.ndarray
+    plus: np.ndarray
+    minus: np.ndarray
+    samples: list
+
+
+def _solve(ifa: PrintedIfa, grids: sg.Grids, swept: tuple[tol.Parameter, ...], copper: tuple[tol.Parameter, ...],
+           n_full: int, seed: int, runner, progress, model: str) -> _Solved:
+    """One batch on the runner: the nominal (wide sweep and grid), +-h of every swept parameter,
+    samples 0..n_full-1 (their copper deviations) solved in full."""
+    jobs: list[tuple] = [(ifa, grids.wide_hz, model), (ifa, grids.eval_hz, model)]
+    for p in swept:
+        jobs += [(tol.perturbed(ifa, (p,), (sign * p.half_width,)), grids.eval_hz, model) for sign in (1.0, -1.0)]
+    jobs += [(tol.perturbed(ifa, copper, row), grids.eval_hz, model) for row in tol.deviations(copper, seed, 0, n_full)]
+    z = runner.map(solve_task, jobs, progress)
+    shape = (len(swept), grids.eval_hz.size)
+    n = 2 * len(swept)
+    return _Solved(z[0], z[1], np.array(z[2:2 + n:2]).reshape(shape), np.array(z[3:3 + n:2]).reshape(shape), z[2 + n:])
+
+
+def _fit(grids: sg.Grids, solved: _Solved, params: tuple[tol.Parameter, ...], swept: tuple[tol.Parameter, ...], parts: tuple) -> sg.Surrogate:
+    columns = params + tuple(p for p in swept if p not in params)
+    return sg.fit(grids, solved.wide, solved.nominal, tuple(i for i, p in enumerate(columns) if not p.on_parts),
+                  np.array([p.half_width for p in swept]), solved.plus, solved.minus, parts,
+                  tuple(i for i, p in enumerate(columns) if p.on_parts))
+
+
 def run_yield(spec: Spec, samples: int, seed: int, runner, *, checks: int = DEFAULT_CHECK_SAMPLES, full: bool = False,
               centre: bool = False, progress: Progress | None = None, model: str = MODEL) -> YieldReport:
     """Monte Carlo yield of ``spec``'s built antenna (see the module text); ``model``: the
@@ -209,50 +241,40 @@ def run_yield(spec: Spec, samples: int, seed: int, runner, *, checks: int = DEFA
 
     grids = grids_of(spec)
     ifa0 = copper_ifa(spec, sized(spec, model))
-    copper = tol.parameters(spec.raw, (), getattr(ifa0, "cover", None) is not None and "enclosure" in spec.raw)
+    enclosure = "enclosure" in spec.raw and getattr(ifa0, "cover", None) is not None
+    copper = tol.parameters(spec.raw, (), enclosure)
     tol.check_spreads(ifa0, copper)
     design_params = tuple(tol.Parameter(k, k.replace("_", " "), "mm", h, "uniform", "")
                           for k, h in zip(DESIGN_KEYS, (ARM_STEP_MM, TAP_STEP_MM))) if centre else ()
     n_full = samples if full else min(checks, samples)
-    copper_dev = tol.deviations(copper, seed, 0, n_full)
-    # one batch: wide nominal, nominal on the grid, +-h of every parameter, the full-solve samples
-    jobs: list[tuple] = [(ifa0, grids.wide_hz, model), (ifa0, grids.eval_hz, model)]
     swept = copper + design_params
-    for p in swept:
-        jobs += [(tol.perturbed(ifa0, (p,), (sign * p.half_width,)), grids.eval_hz, model) for sign in (1.0, -1.0)]
-    jobs += [(tol.perturbed(ifa0, copper, row), grids.eval_hz, model) for row in copper_dev]
-    z = runner.map(solve_task, jobs, step("full solves"))
-    wide_zin, nominal_zin = z[0], z[1]
-    plus, minus = z[2:2 + 2 * len(swept):2], z[3:3 + 2 * len(swept):2]
-    sample_zin = z[2 + 2 * len(swept):]
-
-    parts = _matching_parts(spec, grids, wide_zin)
-    params = tol.parameters(spec.raw, tuple(p.describe() for p in parts), "enclosure" in spec.raw and getattr(ifa0, "cover", None) is not None)
-    all_params = params + design_params
-    copper_idx = tuple(i for i, p in enumerate(all_params) if not p.on_parts)
-    part_idx = tuple(i for i, p in enumerate(all_params) if p.on_parts)
-    fitted = sg.fit(grids, wide_zin, nominal_zin, copper_idx, np.array([p.half_width for p in swept]),
-                   np.array(plus).reshape(len(swept), grids.eval_hz.size), np.array(minus).reshape(len(swept), grids.eval_hz.size),
-                    parts, part_idx)
-    nominal_fig = sg.figures(grids, sg.with_parts(grids.eval_hz, nominal_zin, parts)[None, :])
-    dev_full = tol.deviations(params, seed, 0, n_full)
-    full_fig = _full_figures(grids, sample_zin, parts, dev_full, params)
-    report_warnings: list[str] = []
-    if full:
-        outcome = Outcome("nominal", {}, full_fig, nominal_fig)
-    else:
-        zeros = (0.0,) * len(design_params)
-        outcome = _surrogate_outcome("nominal", fitted, params, seed, samples, zeros, runner, step("surrogate samples"), nominal_fig)
-        outcome.check_full = full_fig
-        outcome.check_surrogate = fitted.evaluate(_columns(dev_full, zeros))
-        report_warnings += _trust(outcome)
-    sens = sensitivity_table(all_params, swept, grids, nominal_zin, plus, minus, parts)
+    solved = _solve(ifa0, grids, swept, copper, n_full, seed, runner, step("full solves"), model)
+    parts = _matching_parts(spec, grids, solved.wide)
+    params = tol.parameters(spec.raw, tuple(p.describe() for p in parts), enclosure)
+    fitted = _fit(grids, solved, params, swept, parts)
+    outcome = _outcome("nominal", grids, solved, fitted, params, parts, seed, samples, (0.0,) * len(design_params), full, runner, step)
+    sens = sensitivity_table(params, swept, grids, solved.nominal, list(solved.plus), list(solved.minus), parts)
     report = YieldReport(spec, seed, "full" if full else "surrogate", runner.label, params, sens, outcome, grids=grids,
-                         warnings=report_warnings, model=model)
+                         warnings=[] if full else _trust(outcome), model=model)
     if centre and not full:
-        report.centred = _centred(spec, fitted, params, seed, samples, ifa0, grids, parts, runner, checks, step, model)
+        report.centred = _centred(spec, fitted, params, copper, seed, samples, ifa0, grids, parts, runner, checks, step, model)
         report.warnings += _trust(report.centred)
     return report
+
+
+def _outcome(label: str, grids: sg.Grids, solved: _Solved, fitted: sg.Surrogate, params, parts: tuple, seed: int, samples: int,
+             design: tuple[float, ...], full: bool, runner, step) -> Outcome:
+    """A design's Monte Carlo: every sample solved in full (``full``), or the surrogate with the
+    full-solve samples as its check."""
+    nominal_fig = sg.figures(grids, sg.with_parts(grids.eval_hz, solved.nominal, parts)[None, :])
+    dev_full = tol.deviations(params, seed, 0, len(solved.samples))
+    full_fig = _full_figures(grids, solved.samples, parts, dev_full, params)
+    if full:
+        return Outcome(label, {}, full_fig, nominal_fig)
+    outcome = _surrogate_outcome(label, fitted, params, seed, samples, design, runner, step(f"surrogate samples, {label} design"), nominal_fig)
+    outcome.check_full = full_fig
+    outcome.check_surrogate = fitted.evaluate(_columns(dev_full, design))
+    return outcome
 
 
 def _full_figures(grids: sg.Grids, zin: list, parts: tuple, dev: np.ndarray, params: tuple[tol.Parameter, ...]) -> sg.Figures:
@@ -321,35 +343,27 @@ def sensitivity_table(params: tuple[tol.Parameter, ...], swept: tuple[tol.Parame
     return rows
 
 
-def _centred(spec: Spec, model: sg.Surrogate, params, seed: int, samples: int, ifa0: PrintedIfa, grids: sg.Grids,
+def _centred(spec: Spec, model: sg.Surrogate, params, copper, seed: int, samples: int, ifa0: PrintedIfa, grids: sg.Grids,
              parts: tuple, runner, checks: int, step, response: str) -> Outcome:
-    """The arm length and feed tap offsets (within the search ranges) that maximise the
-    surrogate's -10 dB yield on the same samples, then that design's Monte Carlo and its own
-    check solves (its nominal and samples 0..k-1 solved in full)."""
+    """The arm length and feed tap offsets (within the steps the surrogate was fitted over) that
+    maximise the surrogate's -10 dB yield on the same samples; then that design solved afresh
+    (its own sensitivity solves, surrogate and check solves) for its Monte Carlo."""
     from footgen.prediction import sized
 
     dev = tol.deviations(params, seed, 0, samples)
     best_key: tuple[float, float] | None = None
     best = (0.0, 0.0)
-    for d_arm in np.linspace(-ARM_RANGE_MM, ARM_RANGE_MM, ARM_GRID):
-        for d_tap in np.linspace(-TAP_RANGE_MM, TAP_RANGE_MM, TAP_GRID):
+    for d_arm in np.linspace(-ARM_STEP_MM, ARM_STEP_MM, ARM_GRID):
+        for d_tap in np.linspace(-TAP_STEP_MM, TAP_STEP_MM, TAP_GRID):
             worst = model.worst_db(_columns(dev, (float(d_arm), float(d_tap))))
-            key = (float(np.count_nonzero(worst <= sg.LEVEL_10DB)), -(abs(d_arm) / ARM_RANGE_MM + abs(d_tap) / TAP_RANGE_MM))
+            key = (float(np.count_nonzero(worst <= sg.LEVEL_10DB)), -(abs(d_arm) / ARM_STEP_MM + abs(d_tap) / TAP_STEP_MM))
             if best_key is None or key > best_key:
                 best_key, best = key, (float(d_arm), float(d_tap))
     design = (_r(best[0], 6), _r(best[1], 6))
-    offsets = dict(zip(DESIGN_KEYS, design))
-    ifa_c = tol.perturbed(ifa0, (), (), offsets)
-    copper = tuple(p for p in params if not p.on_parts)
-    n = min(checks, samples)
-    jobs = [(ifa_c, grids.eval_hz, response)] + [(tol.perturbed(ifa_c, copper, row), grids.eval_hz, response)
-                                                 for row in tol.deviations(copper, seed, 0, n)]
-    z = runner.map(solve_task, jobs, step("full solves, centred design"))
-    nominal_fig = sg.figures(grids, sg.with_parts(grids.eval_hz, z[0], parts)[None, :])
-    outcome = _surrogate_outcome("centred", model, params, seed, samples, design, runner, step("surrogate samples, centred design"), nominal_fig)
-    dev_n = tol.deviations(params, seed, 0, n)
-    outcome.check_full = _full_figures(grids, z[1:], parts, dev_n, params)
-    outcome.check_surrogate = model.evaluate(_columns(dev_n, design))
+    ifa_c = tol.perturbed(ifa0, (), (), dict(zip(DESIGN_KEYS, design)))
+    solved = _solve(ifa_c, grids, copper, copper, min(checks, samples), seed, runner, step("full solves, centred design"), response)
+    fitted = _fit(grids, solved, params, copper, parts)
+    outcome = _outcome("centred", grids, solved, fitted, params, parts, seed, samples, (), False, runner, step)
     numbers = sized(spec, response)
     outcome.design_mm = {"arm_length_mm": numbers.arm_length_mm + design[0], "feed_short_spacing_mm": numbers.feed_short_spacing_mm + design[1],
                          "arm_length_change_mm": design[0], "feed_tap_change_mm": design[1]}
