@@ -26,13 +26,18 @@ from footgen.yieldmc import surrogate as sg
 from footgen.yieldmc import tolerance as tol
 
 #: Evaluation grid: band centre +- max(EVAL_HALF_SPAN, EVAL_BAND_MARGIN x the band's half-width)
-#: in EVAL_POINTS points, plus BAND_POINTS points across the target band itself.
+#: in EVAL_POINTS points, plus BAND_POINTS points across the target band itself.  Dense enough
+#: that the MoM solves it as a prediction sweep does: 41 solved frequencies in mixed precision and
+#: a spline between (footgen.physics.predict.zin_resampled; 0.001 dB on the examples).
 EVAL_HALF_SPAN = 0.08
 EVAL_BAND_MARGIN = 1.5
-EVAL_POINTS = 41
+EVAL_POINTS = 81
 BAND_POINTS = 21
-#: Samples the surrogate evaluates per task.
+#: Samples the surrogate evaluates per task (at least; larger for runs of more than MAX_CHUNKS).
 CHUNK_SAMPLES = 250
+MAX_CHUNKS = 400
+#: Design centring searches on the first this many samples (the surrogate's yield of each trial).
+CENTRE_SEARCH_SAMPLES = 2000
 #: Check samples solved in full by default.
 DEFAULT_CHECK_SAMPLES = 8
 #: A surrogate whose worst in-band S11 is further than this from a full solve (dB) is flagged.
@@ -54,13 +59,13 @@ MODEL = "mom"
 # ---------------------------------------------------------------------------- worker tasks
 
 
-def solve_task(ifa: PrintedIfa, freq_hz: np.ndarray, model: str = MODEL) -> np.ndarray:
+def solve_task(ifa: PrintedIfa, freq_hz: np.ndarray, model: str = MODEL, raw_spec: dict | None = None) -> np.ndarray:
     """Full solve: Zin of ``ifa`` by the response model (the prediction's model path, its cache
-    when known)."""
+    when known); solver errors said in the terms of ``raw_spec``."""
     from footgen.explain import explained
     from footgen.prediction import model_zin_ohm
 
-    with explained({}):
+    with explained(raw_spec or {}):
         return model_zin_ohm(ifa, freq_hz, model)
 
 
@@ -210,13 +215,13 @@ class _Solved:
 
 
 def _solve(ifa: PrintedIfa, grids: sg.Grids, swept: tuple[tol.Parameter, ...], copper: tuple[tol.Parameter, ...],
-           n_full: int, seed: int, runner, progress, model: str) -> _Solved:
+           n_full: int, seed: int, runner, progress, model: str, raw: dict) -> _Solved:
     """One batch on the runner: the nominal (wide sweep and grid), +-h of every swept parameter,
     samples 0..n_full-1 (their copper deviations) solved in full."""
-    jobs: list[tuple] = [(ifa, grids.wide_hz, model), (ifa, grids.eval_hz, model)]
+    jobs: list[tuple] = [(ifa, grids.wide_hz, model, raw), (ifa, grids.eval_hz, model, raw)]
     for p in swept:
-        jobs += [(tol.perturbed(ifa, (p,), (sign * p.half_width,)), grids.eval_hz, model) for sign in (1.0, -1.0)]
-    jobs += [(tol.perturbed(ifa, copper, row), grids.eval_hz, model) for row in tol.deviations(copper, seed, 0, n_full)]
+        jobs += [(tol.perturbed(ifa, (p,), (sign * p.half_width,)), grids.eval_hz, model, raw) for sign in (1.0, -1.0)]
+    jobs += [(tol.perturbed(ifa, copper, row), grids.eval_hz, model, raw) for row in tol.deviations(copper, seed, 0, n_full)]
     z = runner.map(solve_task, jobs, progress)
     shape = (len(swept), grids.eval_hz.size)
     n = 2 * len(swept)
@@ -248,7 +253,7 @@ def run_yield(spec: Spec, samples: int, seed: int, runner, *, checks: int = DEFA
                           for k, h in zip(DESIGN_KEYS, (ARM_STEP_MM, TAP_STEP_MM))) if centre else ()
     n_full = samples if full else min(checks, samples)
     swept = copper + design_params
-    solved = _solve(ifa0, grids, swept, copper, n_full, seed, runner, step("full solves"), model)
+    solved = _solve(ifa0, grids, swept, copper, n_full, seed, runner, step("full solves"), model, spec.raw)
     parts = _matching_parts(spec, grids, solved.wide)
     params = tol.parameters(spec.raw, tuple(p.describe() for p in parts), enclosure)
     fitted = _fit(grids, solved, params, swept, parts)
@@ -288,7 +293,8 @@ def _full_figures(grids: sg.Grids, zin: list, parts: tuple, dev: np.ndarray, par
 
 def _surrogate_outcome(label: str, model: sg.Surrogate, params, seed: int, samples: int, design: tuple[float, ...],
                        runner, progress, nominal_fig: sg.Figures) -> Outcome:
-    chunks = [(model, params, seed, a, min(a + CHUNK_SAMPLES, samples), design) for a in range(0, samples, CHUNK_SAMPLES)]
+    size = max(CHUNK_SAMPLES, -(-samples // MAX_CHUNKS))
+    chunks = [(model, params, seed, a, min(a + size, samples), design) for a in range(0, samples, size)]
     figs = sg.Figures.join(runner.map(surrogate_task, chunks, progress))
     return Outcome(label, dict(zip(DESIGN_KEYS, design)), figs, nominal_fig)
 
@@ -350,7 +356,7 @@ def _centred(spec: Spec, model: sg.Surrogate, params, copper, seed: int, samples
     (its own sensitivity solves, surrogate and check solves) for its Monte Carlo."""
     from footgen.prediction import sized
 
-    dev = tol.deviations(params, seed, 0, samples)
+    dev = tol.deviations(params, seed, 0, min(samples, CENTRE_SEARCH_SAMPLES))
     best_key: tuple[float, float] | None = None
     best = (0.0, 0.0)
     for d_arm in np.linspace(-ARM_STEP_MM, ARM_STEP_MM, ARM_GRID):
@@ -361,7 +367,7 @@ def _centred(spec: Spec, model: sg.Surrogate, params, copper, seed: int, samples
                 best_key, best = key, (float(d_arm), float(d_tap))
     design = (_r(best[0], 6), _r(best[1], 6))
     ifa_c = tol.perturbed(ifa0, (), (), dict(zip(DESIGN_KEYS, design)))
-    solved = _solve(ifa_c, grids, copper, copper, min(checks, samples), seed, runner, step("full solves, centred design"), response)
+    solved = _solve(ifa_c, grids, copper, copper, min(checks, samples), seed, runner, step("full solves, centred design"), response, spec.raw)
     fitted = _fit(grids, solved, params, copper, parts)
     outcome = _outcome("centred", grids, solved, fitted, params, parts, seed, samples, (), False, runner, step)
     numbers = sized(spec, response)
