@@ -296,3 +296,14 @@ def test_centring_never_lowers_the_yield_and_reports_both_designs() -> None:
     assert d["arm_length_mm"] == pytest.approx(18.6 + d["arm_length_change_mm"], abs=1e-3)
     assert abs(d["arm_length_change_mm"]) <= yr.ARM_STEP_MM and abs(d["feed_tap_change_mm"]) <= yr.TAP_STEP_MM
     assert centred["surrogate_check"]["samples"] == 2
+
+
+def test_full_solve_mode_solves_every_board_and_states_no_surrogate_error(tmp_path) -> None:
+    path = write_spec(tmp_path, _spec(_only(laminate_eps_r={"plus_minus_percent": 8})))
+    result = CliRunner().invoke(main, ["yield", str(path), "--samples", "12", "--full", "--model", "tline", "--workers", "1",
+                                       "--json", str(tmp_path / "full.json")])
+    assert result.exit_code == 0, result.output
+    summary = json.loads((tmp_path / "full.json").read_text("utf-8"))
+    assert summary["method"] == "full" and summary["samples"] == 12
+    assert summary["surrogate_check"] is None and "yield_10db_model_error" not in summary
+    assert "full solve of every sample" in result.output
