@@ -307,3 +307,12 @@ def test_full_solve_mode_solves_every_board_and_states_no_surrogate_error(tmp_pa
     assert summary["method"] == "full" and summary["samples"] == 12
     assert summary["surrogate_check"] is None and "yield_10db_model_error" not in summary
     assert "full solve of every sample" in result.output
+
+
+def test_same_seed_same_numbers_on_one_or_two_local_processes() -> None:
+    spec = parse_spec(_spec(_only(laminate_eps_r={"plus_minus_percent": 8}, etch={"plus_minus_mm": 0.05})))
+    out = []
+    for workers in (1, 2):
+        with LocalRunner(workers) as runner:
+            out.append(yr.run_yield(spec, 600, 4, runner, checks=2, model="tline").json_bytes())
+    assert out[0] == out[1]
