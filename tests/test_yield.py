@@ -8,6 +8,7 @@ the test cache, so a second run is quick.
 from __future__ import annotations
 
 import copy
+import dataclasses
 import json
 
 import numpy as np
@@ -15,6 +16,7 @@ import pytest
 from click.testing import CliRunner
 
 from footgen.cli import main
+from footgen.physics.ifa import PrintedIfa
 from footgen.spec import parse_spec
 from footgen.yieldmc import run as yr
 from footgen.yieldmc import surrogate as sg
@@ -26,6 +28,8 @@ from conftest import ROOT, load_json, write_spec
 SOIL = load_json(ROOT / "examples" / "soil-probe-2g4.json")
 #: The soil probe's sized arm, given explicitly so the tests need no sizing.
 ARM = {"length_mm": 17.794, "height_mm": 5.1, "feed_short_spacing_mm": 1.767}
+#: The physics model has the enclosure wall (``PrintedIfa.cover``) once that work is merged.
+HAS_WALL = "cover" in {f.name for f in dataclasses.fields(PrintedIfa)}
 ZERO = {name: {"plus_minus_percent" if unit == "%" else "plus_minus_mm": 0} for name, (_, unit, _, _) in tol.SPEC_ENTRIES.items()}
 
 
@@ -316,3 +320,16 @@ def test_same_seed_same_numbers_on_one_or_two_local_processes() -> None:
         with LocalRunner(workers) as runner:
             out.append(yr.run_yield(spec, 600, 4, runner, checks=2, model="tline").json_bytes())
     assert out[0] == out[1]
+
+
+@pytest.mark.skipif(not HAS_WALL, reason="the enclosure wall is not in the physics model of this checkout")
+def test_enclosure_spreads_enter_the_yield_when_the_spec_has_a_wall() -> None:
+    data = _spec(_only(enclosure_eps_r={"plus_minus_percent": 10}, enclosure_thickness={"plus_minus_percent": 10},
+                       enclosure_distance={"plus_minus_mm": 0.3}),
+                 enclosure={"eps_r": 3.0, "thickness_mm": 2.0, "distance_mm": 1.0})
+    report = _run(data, 100, checks=1)
+    rows = {r["name"]: r for r in report.sensitivities}
+    assert set(rows) == {"enclosure_eps_r", "enclosure_thickness", "enclosure_distance"}
+    # a denser or nearer wall loads the antenna more: lower resonance (common practice, no source)
+    assert rows["enclosure_eps_r"]["resonance_mhz_per_unit"] < 0
+    assert rows["enclosure_distance"]["resonance_mhz_per_unit"] > 0
