@@ -47,7 +47,7 @@ def main(argv: list[str]) -> int:
     from footgen.prediction import copper_ifa, sized
     from footgen.spec import load_spec
     from footgen.yieldmc.executors import LocalRunner
-    from footgen.yieldmc.run import run_yield, solve_task
+    from footgen.yieldmc.run import EVAL_SOLVED_POINTS, run_yield, solve_task
     from footgen.yieldmc.tolerance import deviations, parameters, perturbed
 
     path = Path(argv[0]) if argv else ROOT / "examples" / "soil-probe-2g4.json"
@@ -80,7 +80,7 @@ def main(argv: list[str]) -> int:
     # the reference: boards of another seed (not solved above) solved in full on the same workers
     ifa = copper_ifa(spec, sized(spec))
     params = parameters(spec.raw)
-    boards = [(perturbed(ifa, params, row), sur.grids.eval_hz, "mom", spec.raw) for row in deviations(params, 2, 0, FULL_BOARDS)]
+    boards = [(perturbed(ifa, params, row), sur.grids.eval_hz, "mom", spec.raw, EVAL_SOLVED_POINTS) for row in deviations(params, 2, 0, FULL_BOARDS)]
     cpu0, t = _children_cpu_s(), time.perf_counter()
     with LocalRunner(WORKERS) as runner:
         runner.map(solve_task, boards)

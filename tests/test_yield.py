@@ -175,10 +175,10 @@ def test_sensitivity_ranking_matches_one_at_a_time_full_solves(spread_run) -> No
     sur, _ = spread_run
     spec, grids = sur.spec, sur.grids
     ifa = copper_ifa(spec, sized(spec))
-    base = resonance(grids.eval_hz, yr.solve_task(ifa, grids.eval_hz)).freq_hz
+    base = resonance(grids.eval_hz, yr.solve_task(ifa, grids.eval_hz, solved_points=yr.EVAL_SOLVED_POINTS)).freq_hz
     moved = {}
     for p in sur.params:  # full solves at half the half-width: points the table was not fitted on
-        z = yr.solve_task(tol.perturbed(ifa, (p,), (p.half_width / 2,)), grids.eval_hz)
+        z = yr.solve_task(tol.perturbed(ifa, (p,), (p.half_width / 2,)), grids.eval_hz, solved_points=yr.EVAL_SOLVED_POINTS)
         moved[p.key] = abs(resonance(grids.eval_hz, z).freq_hz - base)
     brute_rank = sorted(moved, key=lambda k: -moved[k])
     assert [row["name"] for row in sur.sensitivities] == brute_rank
