@@ -347,7 +347,8 @@ def testboard_cmd(
 
 def _register_loop_commands() -> None:
     """retune, diff, match, report: the measure-and-retune loop (footgen.cli_rf); sites: the
-    board placement core for the KiCad plugins (footgen.cli_place)."""
+    board placement core for the KiCad plugins (footgen.cli_place); yield: the Monte Carlo of
+    the built boards (footgen.cli_yield)."""
     from footgen import cli_rf
 
     for command in (cli_rf.retune_cmd, cli_rf.diff_cmd, cli_rf.match_cmd, cli_rf.report_cmd):
@@ -355,6 +356,9 @@ def _register_loop_commands() -> None:
     from footgen import cli_place
 
     main.add_command(cli_place.sites_cmd)
+    from footgen import cli_yield
+
+    main.add_command(cli_yield.yield_cmd)
 
 
 _register_loop_commands()
