@@ -228,6 +228,10 @@ def _fix_max_items(err: jsonschema.ValidationError) -> str:
     return f"too many entries ({len(err.instance)}); at most {err.validator_value}"
 
 
+def _fix_min_items(err: jsonschema.ValidationError) -> str:
+    return f"needs at least {err.validator_value} items"
+
+
 def _fix_required(err: jsonschema.ValidationError) -> str:
     missing = [name for name in err.validator_value if name not in (err.instance or {})]
     return f"missing required field {missing[0]!r}" if missing else err.message
@@ -258,6 +262,7 @@ _FIXES: dict[str, Callable[[jsonschema.ValidationError], str]] = {
     "pattern": _fix_pattern,
     "maxLength": _fix_max_length,
     "maxItems": _fix_max_items,
+    "minItems": _fix_min_items,
     "required": _fix_required,
     "additionalProperties": _fix_additional,
     "oneOf": _fix_one_of,
@@ -269,8 +274,14 @@ def _did_you_mean(word: object, choices: list[str]) -> str:
     return f" (did you mean {close[0]!r}?)" if close else ""
 
 
+_FORM_ERRORS = ("required", "additionalProperties", "const")
+
+
 def _best_error(errors: list[jsonschema.ValidationError]) -> jsonschema.ValidationError:
     best = jsonschema.exceptions.best_match(errors)
+    for err in errors:
+        if err.validator == "oneOf" and err.context and best.json_path.startswith(err.json_path):
+            return _best_branch_error(err)
     # For oneOf, prefer the branch that matches the user's discriminating keys, if any.
     while best.validator == "oneOf" and best.context:
         keyed = [e for e in best.context if e.validator not in ("required", "additionalProperties", "const")]
@@ -278,6 +289,20 @@ def _best_error(errors: list[jsonschema.ValidationError]) -> jsonschema.Validati
             break
         best = jsonschema.exceptions.best_match(keyed)
     return best
+
+
+def _best_branch_error(err: jsonschema.ValidationError) -> jsonschema.ValidationError:
+    """The error of a oneOf: in the forms whose discriminating constants (``kind``) the spec
+    matches, the first error about a value (a range, a type); the oneOf itself (listing the
+    forms) when every form only misses or adds fields."""
+    branches: dict[object, list[jsonschema.ValidationError]] = {}
+    for sub in err.context:
+        branches.setdefault(sub.relative_schema_path[0], []).append(sub)
+    matching = [subs for subs in branches.values() if not any(e.validator == "const" for e in subs)]
+    keyed = [e for subs in matching for e in subs if e.validator not in _FORM_ERRORS]
+    if keyed:
+        return jsonschema.exceptions.best_match(keyed)
+    return err
 
 
 def _error_for(err: jsonschema.ValidationError) -> SpecError:
