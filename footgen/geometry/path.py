@@ -105,5 +105,7 @@ def path_ifa(
         feed_root_mm=feed_root_mm, short_root_mm=short_root_mm,
     )
     arm = Trace("arm", ((-s - short_width_mm / 2, h),) + arm_path[1:], trace_width_mm)
-    legs = sum(1 for a, b in zip(arm_path, arm_path[1:]) if abs(a[0] - b[0]) < LENGTH_EPS_MM)
-    return IfaCopper((short, feed, arm), arm_path, 0.0, -s, h, legs)
+    legs = [a[0] for a, b in zip(arm_path, arm_path[1:]) if abs(a[0] - b[0]) < LENGTH_EPS_MM]
+    # the pitch said of a drawn path (drawing, report): the spacing of its first two legs
+    pitch = abs(legs[1] - legs[0]) if len(legs) >= 2 else None
+    return IfaCopper((short, feed, arm), arm_path, 0.0, -s, h, len(legs), pitch)
