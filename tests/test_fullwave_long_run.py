@@ -36,8 +36,35 @@ SWEEP_POINTS = 241
 Z0_OHM = 50.0
 
 
+#: Known misses, kept visible as strict xfails (they fail the run once they pass, so the marker
+#: must then go): (check, case) -> the measured values.  Diagnosis in DEVELOPERS.md ("Meanders
+#: with a long straight run"): our model's Q at the S11 minimum is 10-31 % below openEMS's.
+KNOWN_MISSES = {
+    ("resonance", "dev_meander_run_a"): "ours 2445.3 MHz vs openEMS 2344.7 MHz (+4.29 %); Q at the minimum 3.83 vs 4.24",
+    ("bandwidth", "dev_meander_run_b"): "ours 226.8 MHz vs openEMS 189.6 MHz (+19.6 %); Q at the minimum 6.10 vs 8.85",
+    ("zin", "dev_meander_run_b"): "ours 57.1+6.9j vs openEMS 45.6-3.8j ohm, |dGamma| = 0.153",
+}
+
+
+def _cases(check: str) -> list:
+    return [
+        pytest.param(n, id=n, marks=pytest.mark.xfail(strict=True, reason=KNOWN_MISSES[(check, n)]))
+        if (check, n) in KNOWN_MISSES else pytest.param(n, id=n)
+        for n in IDS
+    ]
+
+
 def _gamma(z: complex) -> complex:
     return (z - Z0_OHM) / (z + Z0_OHM)
+
+
+def _q_at(freqs: np.ndarray, zin: np.ndarray, i: int) -> float:
+    """Q of a one-port at sample ``i`` from its impedance curve, omega |Z'| / (2 R) (Yaghjian and
+    Best, IEEE Trans. Antennas Propag. 53(4), 2005, eq. 84; from memory): it separates the
+    radiation resistance (R) from the reactance slope (|Z'|)."""
+    omega = 2 * np.pi * freqs
+    dz = np.gradient(zin, omega)
+    return float(omega[i] * abs(dz[i]) / (2 * zin[i].real))
 
 
 @lru_cache(maxsize=None)
@@ -56,7 +83,11 @@ def _row(name: str) -> dict:
     s11 = s11_from_zin(zin)
     ours_band = bandwidth_10db(freqs, s11)
     i_min = int(np.argmin(np.abs(s11)))
+    f_ref = np.array(result["freq_hz"])
+    z_ref = np.array(result["zin_re"]) + 1j * np.array(result["zin_im"])
     return {
+        "q_ours": _q_at(freqs, zin, i_min),
+        "q_ref": _q_at(f_ref, z_ref, int(np.argmin(np.abs(f_ref - derived["f_res_hz"])))),
         "name": name,
         "mesh": result["mesh_level"],
         "f_ours": min_s11_frequency_hz(freqs, s11),
@@ -72,7 +103,7 @@ def _line(r: dict) -> str:
     return (f"{r['name']} ({r['mesh']} openEMS mesh): resonance {r['f_ours'] / 1e6:.1f} vs {r['f_ref'] / 1e6:.1f} MHz "
             f"({r['f_ours'] / r['f_ref'] - 1:+.2%}); -10 dB bandwidth {r['bw_ours'] / 1e6:.1f} vs {r['bw_ref'] / 1e6:.1f} MHz "
             f"({r['bw_ours'] / r['bw_ref'] - 1:+.1%}); Zin at the minimum {r['z_ours'].real:.1f}{r['z_ours'].imag:+.1f}j vs "
-            f"{r['z_ref'].real:.1f}{r['z_ref'].imag:+.1f}j ohm")
+            f"{r['z_ref'].real:.1f}{r['z_ref'].imag:+.1f}j ohm; Q there {r['q_ours']:.2f} vs {r['q_ref']:.2f}")
 
 
 def test_long_run_cases_have_their_legs_far_from_the_feed() -> None:
@@ -104,21 +135,21 @@ def test_long_run_table(record_property) -> None:
     record_property("worst_bandwidth_error", f"{r_b['name']} {e_b:+.4f}")
 
 
-@pytest.mark.parametrize("name", IDS)
+@pytest.mark.parametrize("name", _cases("resonance"))
 def test_long_run_resonance_within_2_percent(name: str) -> None:
     r = _row(name)
     # source: openEMS 0.0.35 (Debian package, FDTD), stored result, f at min |S11|
     assert r["f_ours"] == pytest.approx(r["f_ref"], rel=RESONANCE_REL_TOL), _line(r)
 
 
-@pytest.mark.parametrize("name", IDS)
+@pytest.mark.parametrize("name", _cases("bandwidth"))
 def test_long_run_bandwidth_within_15_percent(name: str) -> None:
     r = _row(name)
     # source: openEMS 0.0.35 (Debian package, FDTD), stored result, -10 dB band around the minimum
     assert r["bw_ours"] == pytest.approx(r["bw_ref"], rel=BANDWIDTH_REL_TOL), _line(r)
 
 
-@pytest.mark.parametrize("name", IDS)
+@pytest.mark.parametrize("name", _cases("zin"))
 def test_long_run_input_impedance_at_the_minimum(name: str) -> None:
     r = _row(name)
     distance = abs(_gamma(r["z_ours"]) - _gamma(r["z_ref"]))
