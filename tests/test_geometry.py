@@ -141,6 +141,7 @@ def test_every_generator_makes_one_connected_copper(name: str) -> None:
     if name == "path":  # 29 mm drawn, the last segment lengthened by 1 mm to the 30 mm asked
         params.update(path_mm=((0.0, 5.0), (10.0, 5.0), (10.0, 2.0), (12.0, 2.0), (12.0, 5.0), (14.0, 5.0), (14.0, 2.0),
                                (16.0, 2.0), (16.0, 5.0), (17.0, 5.0)), min_pitch_mm=1.0)
+    copper = get_generator(name)(**params)
     assert copper.polygon.geom_type == "Polygon"
     assert math.isclose(copper.arm_length_mm, 30.0, abs_tol=1e-9)
     assert max(x for x, _ in copper.arm_path) <= params.get("x_max_mm", 1e9) + 1e-9
