@@ -57,12 +57,21 @@ class BuildResult:
         return output_names(self.spec)["footprint"]
 
 
+def enclosure_words(spec: Spec) -> str:
+    """The spec's enclosure wall in words (for the footprint description and the report)."""
+    wall = spec.enclosure
+    assert wall is not None
+    return f"eps_r {wall.eps_r:g}, {wall.thickness_mm:g} mm thick, {wall.distance_mm:g} mm from the copper"
+
+
 def footprint_meta(spec: Spec) -> FootprintMeta:
     from footgen.kicad.writer import FootprintMeta
 
     band = f"{spec.target.low_hz / 1e6:g}-{spec.target.high_hz / 1e6:g} MHz"
     style = "meandered inverted-F antenna" if spec.style.kind == "meandered" else "inverted-F antenna"
     description = f"Printed {style}, {band}, eps_r {spec.laminate.eps_r:g}, {spec.laminate.thickness_mm:g} mm laminate"
+    if spec.enclosure is not None:
+        description += f", sized under an enclosure wall ({enclosure_words(spec)})"
     if spec.description:
         description += f"; {spec.description}"
     return FootprintMeta(
@@ -129,6 +138,7 @@ def report_markdown(result: BuildResult) -> str:
         "| --- | --- |",
         f"| band | {spec.target.low_hz / 1e6:g} to {spec.target.high_hz / 1e6:g} MHz ({spec.target.label}) |",
         f"| laminate | eps_r {spec.laminate.eps_r:g}, {spec.laminate.thickness_mm:g} mm |",
+        *([f"| enclosure wall over the copper | {enclosure_words(spec)} |"] if spec.enclosure is not None else []),
         f"| style | {spec.style.kind} |",
         f"| arm length (centreline, from above the short) | {d['arm_length_mm']:.3f} mm |",
         f"| arm height above the ground edge | {d['arm_height_mm']:.3f} mm |",

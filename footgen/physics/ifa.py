@@ -7,6 +7,8 @@ centreline ``arm_path_m`` starts above the short leg, passes above the feed leg 
 open end (it may be meandered: any polyline of axis-parallel segments).  The geometry layer builds
 this from a layout; physics never sees millimetres.  The laminate lies under the ground and the
 clearance and ends at the board edge ``y = board_edge_y_m`` beyond the antenna (if given).
+An enclosure wall (``cover``, if given) is a dielectric layer parallel to the board over the
+copper side, as far from the copper as ``Cover.distance_m``; laterally it covers the board.
 """
 
 from __future__ import annotations
@@ -22,6 +24,17 @@ class Laminate:
     thickness_m: float
     loss_tangent: float = 0.0
     copper_thickness_m: float = 35e-6
+
+
+@dataclass(frozen=True)
+class Cover:
+    """Enclosure wall over the copper side (SI): a lossless plastic layer of relative permittivity
+    ``eps_r`` and thickness ``thickness_m``, parallel to the board, its near face ``distance_m``
+    above the copper."""
+
+    eps_r: float
+    thickness_m: float
+    distance_m: float
 
 
 @dataclass(frozen=True)
@@ -53,6 +66,9 @@ class PrintedIfa:
     #: The board edge beyond the antenna (the laminate ends at ``y = board_edge_y_m``); ``None``:
     #: the laminate reaches far beyond the copper.  See :mod:`footgen.physics.board_edge`.
     board_edge_y_m: float | None = None
+    #: The enclosure wall over the copper side; ``None``: air above the board.  It enters the
+    #: models through the equivalent slab of :mod:`footgen.physics.board_edge`.
+    cover: Cover | None = None
 
     @property
     def height_m(self) -> float:
