@@ -236,3 +236,19 @@ def test_property_strategies_reach_accepted_specs() -> None:
     _assert_sound(PATH_FIXED)
     _assert_sound(LEGS_FIXED)
     assert math.isfinite(parse_spec(PATH).arm.length_mm)
+
+
+def test_retune_of_a_drawn_path_trims_its_last_segment(tmp_path) -> None:
+    """retune writes arm.length_mm (and the tap) into the next revision; the drawn path itself
+    stays, its last segment taking the new length (measurement: the invented demo sweep)."""
+    spec_path = ROOT / "examples" / "vineyard-node-2g4-path.json"
+    out = tmp_path / "r2.json"
+    measured = ROOT / "examples" / "measured" / "demo-2g4-enclosure.s1p"
+    result = CliRunner().invoke(main, ["retune", str(spec_path), "--measured", str(measured), "-o", str(out)])
+    assert result.exit_code == 0, result.output
+    data = load_json(out)
+    assert data["style"]["path_mm"] == PATH["style"]["path_mm"]
+    spec, layout = _canonical(data)
+    assert layout.copper.arm_length_mm == pytest.approx(data["arm"]["length_mm"])
+    assert data["arm"]["length_mm"] != pytest.approx(parse_spec(PATH).arm.length_mm)
+    assert check(layout, spec.fab) == []
