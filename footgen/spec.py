@@ -89,6 +89,19 @@ class StyleSpec:
     min_height_mm: float | None = None
     meander_height_mm: float | None = None
     meander_pitch_mm: float | None = None
+    #: Straight run from the short leg to the first meander leg (None: one minimum pitch past
+    #: the feed leg, as before this field existed).
+    meander_start_mm: float | None = None
+    #: Exactly this many meander legs (None: as many as the arm length needs).
+    meander_legs: int | None = None
+    #: An explicit arm centreline (mm, from the short: x along the ground edge in the arm's
+    #: direction, y above the ground edge); None: built by the rule above.
+    path_mm: tuple[tuple[float, float], ...] | None = None
+
+    @property
+    def generator(self) -> str:
+        """Name of the copper generator (footgen.geometry.registry.GENERATORS)."""
+        return "path" if self.path_mm is not None else self.kind
 
 
 @dataclass(frozen=True)
@@ -227,6 +240,10 @@ def _fix_max_items(err: jsonschema.ValidationError) -> str:
     return f"too many entries ({len(err.instance)}); at most {err.validator_value}"
 
 
+def _fix_min_items(err: jsonschema.ValidationError) -> str:
+    return f"needs at least {err.validator_value} items"
+
+
 def _fix_required(err: jsonschema.ValidationError) -> str:
     missing = [name for name in err.validator_value if name not in (err.instance or {})]
     return f"missing required field {missing[0]!r}" if missing else err.message
@@ -257,6 +274,7 @@ _FIXES: dict[str, Callable[[jsonschema.ValidationError], str]] = {
     "pattern": _fix_pattern,
     "maxLength": _fix_max_length,
     "maxItems": _fix_max_items,
+    "minItems": _fix_min_items,
     "required": _fix_required,
     "additionalProperties": _fix_additional,
     "oneOf": _fix_one_of,
@@ -268,8 +286,14 @@ def _did_you_mean(word: object, choices: list[str]) -> str:
     return f" (did you mean {close[0]!r}?)" if close else ""
 
 
+_FORM_ERRORS = ("required", "additionalProperties", "const")
+
+
 def _best_error(errors: list[jsonschema.ValidationError]) -> jsonschema.ValidationError:
     best = jsonschema.exceptions.best_match(errors)
+    for err in errors:
+        if err.validator == "oneOf" and err.context and best.json_path.startswith(err.json_path):
+            return _best_branch_error(err)
     # For oneOf, prefer the branch that matches the user's discriminating keys, if any.
     while best.validator == "oneOf" and best.context:
         keyed = [e for e in best.context if e.validator not in ("required", "additionalProperties", "const")]
@@ -277,6 +301,20 @@ def _best_error(errors: list[jsonschema.ValidationError]) -> jsonschema.Validati
             break
         best = jsonschema.exceptions.best_match(keyed)
     return best
+
+
+def _best_branch_error(err: jsonschema.ValidationError) -> jsonschema.ValidationError:
+    """The error of a oneOf: in the forms whose discriminating constants (``kind``) the spec
+    matches, the first error about a value (a range, a type); the oneOf itself (listing the
+    forms) when every form only misses or adds fields."""
+    branches: dict[object, list[jsonschema.ValidationError]] = {}
+    for sub in err.context:
+        branches.setdefault(sub.relative_schema_path[0], []).append(sub)
+    matching = [subs for subs in branches.values() if not any(e.validator == "const" for e in subs)]
+    keyed = [e for subs in matching for e in subs if e.validator not in _FORM_ERRORS]
+    if keyed:
+        return jsonschema.exceptions.best_match(keyed)
+    return err
 
 
 def _error_for(err: jsonschema.ValidationError) -> SpecError:
@@ -361,13 +399,12 @@ def parse_spec(data: object) -> Spec:
             min_height_mm=_opt(style.get("min_height_mm")),
             meander_height_mm=_opt(style.get("meander_height_mm")),
             meander_pitch_mm=_opt(style.get("meander_pitch_mm")),
+            meander_start_mm=_opt(style.get("meander_start_mm")),
+            meander_legs=None if style.get("meander_legs") is None else int(style["meander_legs"]),
+            path_mm=None if style.get("path_mm") is None else tuple((float(x), float(y)) for x, y in style["path_mm"]),
         ),
         trace_width_mm=width,
-        arm=ArmSpec(
-            length_mm=_opt(data.get("arm", {}).get("length_mm")),
-            height_mm=_opt(data.get("arm", {}).get("height_mm")),
-            feed_short_spacing_mm=_opt(data.get("arm", {}).get("feed_short_spacing_mm")),
-        ),
+        arm=_arm(data.get("arm", {}), style),
         feed=FeedSpec(
             pad_width_mm=float(feed.get("pad_width_mm", width)),
             pad_length_mm=float(feed.get("pad_length_mm", 1.0)),
@@ -395,6 +432,24 @@ def parse_spec(data: object) -> Spec:
 
 def _opt(value: Any) -> float | None:
     return None if value is None else float(value)
+
+
+def _arm(arm: dict, style: dict) -> ArmSpec:
+    """The arm section; an explicit path gives the arm's height and (unless ``length_mm`` trims
+    its last segment) its length."""
+    length, height = _opt(arm.get("length_mm")), _opt(arm.get("height_mm"))
+    path = style.get("path_mm")
+    if path is not None:
+        from footgen.geometry.ifa import path_length  # geometry imports this module: only here
+
+        points = tuple((float(x), float(y)) for x, y in path)
+        y0 = points[0][1]
+        if height is not None and abs(height - y0) > FAB_SLACK_MM:
+            raise SpecError("$.arm.height_mm", height, f"style.path_mm sets the arm height ({y0:g} mm, its first point's y); remove arm.height_mm or make it {y0:g}")
+        height = y0
+        if length is None:
+            length = path_length(points)
+    return ArmSpec(length_mm=length, height_mm=height, feed_short_spacing_mm=_opt(arm.get("feed_short_spacing_mm")))
 
 
 def _target(data: dict) -> Target:
@@ -559,6 +614,88 @@ def _check_meander(spec: Spec) -> None:
         raise SpecError("$.style.meander_pitch_mm", style.meander_pitch_mm, f"neighbouring legs would break the fab clearance; at least {narrowest:g} (trace width plus copper clearance)")
 
 
+def _check_meander_start(spec: Spec) -> None:
+    """The first leg of a meander placed by ``meander_start_mm`` stands one minimum pitch past
+    the feed leg (checked here when the feed tap is given; the sizing keeps to it otherwise)."""
+    style, w, c = spec.style, spec.trace_width_mm, spec.fab.min_clearance_mm
+    start = style.meander_start_mm
+    if start is None:
+        return
+    from footgen.geometry.layout import min_meander_pitch_mm  # layout imports this module
+
+    least_past_feed = min_meander_pitch_mm(spec)
+    tap = spec.arm.feed_short_spacing_mm
+    if tap is not None and start + FAB_SLACK_MM < tap + least_past_feed:
+        raise SpecError(
+            "$.style.meander_start_mm", start,
+            f"the first leg must stand at least {least_past_feed:g} mm past the feed leg ({tap:g} mm from the short): at least {tap + least_past_feed:g}",
+        )
+    if spec.arm.length_mm is not None and start >= spec.arm.length_mm:
+        raise SpecError("$.style.meander_start_mm", start, f"must be shorter than the arm ({spec.arm.length_mm:g} mm) or the meander never starts")
+    if style.meander_legs is not None and style.meander_pitch_mm is not None:
+        from footgen.geometry.layout import short_inset_mm, SIDE_MARGIN_MM
+
+        reach = spec.clearance.width_mm - short_inset_mm(spec) - c - SIDE_MARGIN_MM - w / 2
+        last_leg = start + (style.meander_legs - 1) * style.meander_pitch_mm
+        if last_leg > reach + FAB_SLACK_MM:
+            most = int((reach - start) // style.meander_pitch_mm) + 1 if reach >= start else 0
+            raise SpecError(
+                "$.style.meander_legs", style.meander_legs,
+                f"the last leg would stand {last_leg:.2f} mm from the short, beyond the {reach:.2f} mm the clearance area allows; at most {max(most, 0)} legs at this pitch and start",
+            )
+
+
+def _path_point(k: int) -> str:
+    return f"$.style.path_mm[{k}]"
+
+
+def _check_path(spec: Spec) -> None:
+    """An explicit centreline: its shape (geometry.path.path_problem), its legs no closer than
+    the trace width plus the fab clearance, and its copper inside the clearance area."""
+    path = spec.style.path_mm
+    if path is None:
+        return
+    from footgen.geometry.layout import SIDE_MARGIN_MM, max_arm_height_mm, min_path_pitch_mm, short_inset_mm
+    from footgen.geometry.path import closest_segments, path_problem
+
+    problem = path_problem(path)
+    if problem is not None:
+        k, fix = problem
+        raise SpecError(_path_point(k), list(path[k]), fix)
+    w, ws, c = spec.trace_width_mm, spec.short.stub_width_mm, spec.fab.min_clearance_mm
+    pitch = min_path_pitch_mm(spec)
+    pair = closest_segments(path)
+    if pair is not None and pair[2] + FAB_SLACK_MM < pitch:
+        i, j, d = pair
+        what = "overlaps" if d <= FAB_SLACK_MM else f"comes {d:.3f} mm (centre to centre) from"
+        raise SpecError(
+            _path_point(j), list(path[j]),
+            f"the segment ending here {what} the segment ending at point {i} (self-overlap or legs too close); keep at least {pitch:g} mm (trace width plus the fab clearance)",
+        )
+    for k in range(2, len(path)):
+        seg_d = _segment_distance(((0.0, 0.0), (0.0, path[0][1])), (path[k - 1], path[k]))
+        if seg_d + FAB_SLACK_MM < (w + ws) / 2 + c:
+            raise SpecError(_path_point(k), list(path[k]), f"the path comes {seg_d:.3f} mm (centre to centre) from the short leg; keep at least {(w + ws) / 2 + c:g}")
+    top = max_arm_height_mm(spec)
+    lowest = w / 2 + c
+    inset = short_inset_mm(spec)
+    x_lo = -inset + c + SIDE_MARGIN_MM + w / 2
+    x_hi = spec.clearance.width_mm - inset - c - SIDE_MARGIN_MM - w / 2
+    for k, (x, y) in enumerate(path):
+        if y > top + FAB_SLACK_MM:
+            raise SpecError(_path_point(k), [x, y], f"the copper leaves the clearance area (depth {spec.clearance.depth_mm:g} mm, board edge and fab clearance included); y at most {top:.3f}")
+        if y < lowest - FAB_SLACK_MM:
+            raise SpecError(_path_point(k), [x, y], f"the copper comes closer to the ground edge than the fab clearance; y at least {lowest:.3f}")
+        if not x_lo - FAB_SLACK_MM <= x <= x_hi + FAB_SLACK_MM:
+            raise SpecError(_path_point(k), [x, y], f"the copper leaves the clearance area ({spec.clearance.width_mm:g} mm wide, the short {inset:.3f} mm from its start); x from {x_lo:.3f} to {x_hi:.3f}")
+
+
+def _segment_distance(a: tuple[tuple[float, float], tuple[float, float]], b: tuple[tuple[float, float], tuple[float, float]]) -> float:
+    from shapely.geometry import LineString
+
+    return float(LineString(a).distance(LineString(b)))
+
+
 #: The cross-field checks, run in this order by :func:`_cross_checks`.
 #: The enclosure wall enters the models quasi-statically (footgen.physics.board_edge), which
 #: holds while the wall is close to the copper on the scale of the wavelength: its distance at
@@ -577,8 +714,10 @@ def _check_enclosure(spec: Spec) -> None:
 
 
 CROSS_CHECKS: dict[str, Callable[[Spec], None]] = {
+    "path": _check_path,
     "arm_and_ground": _check_arm_and_ground,
     "enclosure": _check_enclosure,
     "vias": _check_vias,
     "meander": _check_meander,
+    "meander_start": _check_meander_start,
 }

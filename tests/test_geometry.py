@@ -128,7 +128,7 @@ def test_placement_is_rigid(kind: str, width: float) -> None:
 
 
 def test_generators_registered_and_lookup_suggests() -> None:
-    assert set(GENERATORS) == {"straight", "meandered"}
+    assert set(GENERATORS) == {"straight", "meandered", "path"}
     with pytest.raises(SpecError, match="did you mean 'meandered'"):
         get_generator("meandred")
 
@@ -138,6 +138,9 @@ def test_every_generator_makes_one_connected_copper(name: str) -> None:
     params = dict(arm_length_mm=30.0, height_mm=5.0, feed_short_spacing_mm=2.0, trace_width_mm=0.5, short_width_mm=0.5)
     if name == "meandered":
         params.update(x_max_mm=15.0, min_pitch_mm=1.0, meander_height_mm=2.5)
+    if name == "path":  # 29 mm drawn, the last segment lengthened by 1 mm to the 30 mm asked
+        params.update(path_mm=((0.0, 5.0), (10.0, 5.0), (10.0, 2.0), (12.0, 2.0), (12.0, 5.0), (14.0, 5.0), (14.0, 2.0),
+                               (16.0, 2.0), (16.0, 5.0), (17.0, 5.0)), min_pitch_mm=1.0)
     copper = get_generator(name)(**params)
     assert copper.polygon.geom_type == "Polygon"
     assert math.isclose(copper.arm_length_mm, 30.0, abs_tol=1e-9)

@@ -84,7 +84,7 @@ def truncate_path(points: list[Point], length_mm: float) -> tuple[Point, ...]:
     raise ValueError("path shorter than requested length")
 
 
-def _legs(
+def leg_traces(
     *, height_mm: float, feed_short_spacing_mm: float, trace_width_mm: float, short_width_mm: float, feed_root_mm: float, short_root_mm: float
 ) -> tuple[Trace, Trace]:
     s = feed_short_spacing_mm
@@ -110,7 +110,7 @@ def straight_ifa(
     if arm_length_mm <= s:
         raise InfeasibleSpecError("arm_length_mm", arm_length_mm, f"must exceed feed_short_spacing_mm ({s:g}) so the arm passes the feed")
     arm_path = ((-s, height_mm), (-s + arm_length_mm, height_mm))
-    feed, short = _legs(
+    feed, short = leg_traces(
         height_mm=height_mm, feed_short_spacing_mm=s, trace_width_mm=trace_width_mm, short_width_mm=short_width_mm, feed_root_mm=feed_root_mm, short_root_mm=short_root_mm
     )
     arm = Trace("arm", ((-s - short_width_mm / 2, height_mm), arm_path[1]), trace_width_mm)
@@ -130,6 +130,8 @@ def meandered_ifa(
     meander_pitch_mm: float | None = None,
     feed_root_mm: float = 0.0,
     short_root_mm: float = 0.0,
+    meander_start_mm: float | None = None,
+    meander_legs: int | None = None,
 ) -> IfaCopper:
     """A meandered IFA: the arm runs at ``height_mm`` past the feed, then turns down and up in
     right-angle meanders of depth ``meander_height_mm`` until its centreline is
@@ -138,6 +140,9 @@ def meandered_ifa(
     With ``meander_pitch_mm=None`` the pitch is fitted: the fewest turns that hold the length,
     spread evenly over the room up to ``x_max_mm`` (wider pitch couples the turns less).
     A pitch below ``min_pitch_mm`` (trace width plus the smallest allowed gap) is refused.
+    ``meander_start_mm``: the straight run from the short leg to the first leg (default: the
+    first leg one ``min_pitch_mm`` past the feed leg).  ``meander_legs``: exactly this many legs,
+    the arm running on after the last one (a fitted pitch spreads them over the room).
     """
     s = feed_short_spacing_mm
     h = height_mm
@@ -149,10 +154,16 @@ def meandered_ifa(
         raise InfeasibleSpecError(
             "meander_height_mm", round(depth, 4), f"must be at least {min_pitch_mm:.3f} mm (trace width plus the minimum gap); raise the arm or the clearance depth"
         )
-    start_x = min_pitch_mm  # first turn one minimum pitch after the feed leg
+    start_x = _first_leg_x(s, min_pitch_mm, meander_start_mm)
     lead = start_x + s  # straight arm length before the first turn
     remaining = arm_length_mm - lead
     room = x_max_mm - start_x
+    if meander_legs is not None:
+        return _counted_meander(
+            arm_length_mm=arm_length_mm, h=h, s=s, depth=depth, start_x=start_x, room=room, legs=meander_legs,
+            pitch=meander_pitch_mm, min_pitch_mm=min_pitch_mm, x_max_mm=x_max_mm, trace_width_mm=trace_width_mm,
+            short_width_mm=short_width_mm, feed_root_mm=feed_root_mm, short_root_mm=short_root_mm,
+        )
     if remaining <= room:
         copper = straight_ifa(
             arm_length_mm=arm_length_mm,
@@ -192,8 +203,72 @@ def meandered_ifa(
             "arm_length_mm", arm_length_mm, f"the meandered arm reaches x = {arm_path[-1][0]:.2f} mm, beyond the clearance's {x_max_mm:.2f} mm; widen the clearance or deepen the meander"
         )
     used_turns = sum(1 for a, b in zip(arm_path, arm_path[1:]) if abs(a[0] - b[0]) < LENGTH_EPS_MM)
-    feed, short = _legs(
+    feed, short = leg_traces(
         height_mm=h, feed_short_spacing_mm=s, trace_width_mm=trace_width_mm, short_width_mm=short_width_mm, feed_root_mm=feed_root_mm, short_root_mm=short_root_mm
     )
     arm = Trace("arm", ((-s - short_width_mm / 2, h),) + arm_path[1:], trace_width_mm)
     return IfaCopper((short, feed, arm), arm_path, 0.0, -s, h, used_turns, pitch)
+
+
+def _first_leg_x(s: float, min_pitch_mm: float, meander_start_mm: float | None) -> float:
+    """x of the first meander leg (feed at x = 0): one minimum pitch past the feed leg, or where
+    ``meander_start_mm`` (measured from the short leg) puts it."""
+    if meander_start_mm is None:
+        return min_pitch_mm
+    start_x = meander_start_mm - s
+    if start_x < min_pitch_mm - LENGTH_EPS_MM:
+        raise InfeasibleSpecError(
+            "meander_start_mm", meander_start_mm,
+            f"the first leg must stand at least {min_pitch_mm:.3f} mm (trace width plus the minimum gap) past the feed leg, "
+            f"{s:.3f} mm from the short: at least {s + min_pitch_mm:.3f}",
+        )
+    return start_x
+
+
+def counted_meander_pitch_mm(room_mm: float, legs: int, pitch_mm: float | None) -> float:
+    """Pitch of a meander with a fixed number of legs: as given, or spread over ``room_mm`` (the
+    last leg one pitch before the room's end)."""
+    return pitch_mm if pitch_mm is not None else room_mm / legs
+
+
+def counted_meander_min_length_mm(*, lead_mm: float, depth_mm: float, pitch_mm: float, legs: int) -> float:
+    """Centreline length from the short to the end of the last of ``legs`` legs."""
+    return lead_mm + legs * depth_mm + (legs - 1) * pitch_mm
+
+
+def _counted_meander(
+    *, arm_length_mm: float, h: float, s: float, depth: float, start_x: float, room: float, legs: int, pitch: float | None,
+    min_pitch_mm: float, x_max_mm: float, trace_width_mm: float, short_width_mm: float, feed_root_mm: float, short_root_mm: float,
+) -> IfaCopper:
+    """The meander with exactly ``legs`` legs; the arm runs on at the last leg's end level."""
+    pitch = counted_meander_pitch_mm(room, legs, pitch)
+    if pitch < min_pitch_mm - LENGTH_EPS_MM:
+        most = max(int(math.floor(room / min_pitch_mm + 1e-9)), 0)
+        raise InfeasibleSpecError(
+            "meander_legs", legs, f"{legs} legs need a pitch of {pitch:.3f} mm, below the minimum {min_pitch_mm:.3f} (trace width plus the minimum gap); at most {most} fit"
+        )
+    shortest = counted_meander_min_length_mm(lead_mm=start_x + s, depth_mm=depth, pitch_mm=pitch, legs=legs)
+    if arm_length_mm < shortest - LENGTH_EPS_MM:
+        raise InfeasibleSpecError("arm_length_mm", round(arm_length_mm, 4), f"too short for {legs} meander legs of {depth:.3f} mm: at least {shortest:.3f}")
+    points: list[Point] = [(-s, h), (start_x, h)]
+    y = h
+    for k in range(legs):
+        x = start_x + k * pitch
+        y = h - depth if y == h else h
+        points.append((x, y))
+        if k < legs - 1:
+            points.append((x + pitch, y))
+    tail = arm_length_mm - shortest
+    if tail > LENGTH_EPS_MM:
+        points.append((points[-1][0] + tail, y))
+    arm_path = tuple(points)
+    if arm_path[-1][0] > x_max_mm + LENGTH_EPS_MM:
+        raise InfeasibleSpecError(
+            "arm_length_mm", round(arm_length_mm, 4),
+            f"the meandered arm reaches x = {arm_path[-1][0]:.2f} mm, beyond the clearance's {x_max_mm:.2f} mm; at most {arm_length_mm - arm_path[-1][0] + x_max_mm:.3f} fits",
+        )
+    feed, short = leg_traces(
+        height_mm=h, feed_short_spacing_mm=s, trace_width_mm=trace_width_mm, short_width_mm=short_width_mm, feed_root_mm=feed_root_mm, short_root_mm=short_root_mm
+    )
+    arm = Trace("arm", ((-s - short_width_mm / 2, h),) + arm_path[1:], trace_width_mm)
+    return IfaCopper((short, feed, arm), arm_path, 0.0, -s, h, legs, pitch)

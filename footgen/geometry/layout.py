@@ -15,7 +15,7 @@ from shapely.geometry.base import BaseGeometry
 
 from footgen.board_limits import design_limits
 from footgen.errors import InfeasibleSpecError, SpecError
-from footgen.geometry.ifa import IfaCopper, Trace
+from footgen.geometry.ifa import IfaCopper, Trace, counted_meander_min_length_mm, counted_meander_pitch_mm
 from footgen.geometry.matching_pads import MatchingPads, matching_pads
 from footgen.geometry.registry import get_generator
 from footgen.spec import Spec
@@ -158,6 +158,26 @@ def min_meander_pitch_mm(spec: Spec) -> float:
     return spec.trace_width_mm + gap
 
 
+def min_path_pitch_mm(spec: Spec) -> float:
+    """Closest centre-to-centre distance of two parts of an explicit path: the fab's limit."""
+    return spec.trace_width_mm + spec.fab.min_clearance_mm
+
+
+def min_arm_length_mm(spec: Spec, height_mm: float, feed_short_spacing_mm: float) -> float:
+    """Shortest arm the style can build: through the last leg of a meander with a fixed number
+    of legs; 0 for every other style (their shortest arm is the sizing's own bound)."""
+    style = spec.style
+    if style.meander_legs is None or style.kind != "meandered" or style.path_mm is not None:
+        return 0.0
+    s = feed_short_spacing_mm
+    pitch_min = min_meander_pitch_mm(spec)
+    start_x = pitch_min if style.meander_start_mm is None else style.meander_start_mm - s
+    room = arm_x_limit_mm(spec, s) - start_x
+    depth = meander_depth_mm(spec, height_mm) or 0.0
+    pitch = counted_meander_pitch_mm(room, style.meander_legs, style.meander_pitch_mm)
+    return counted_meander_min_length_mm(lead_mm=start_x + s, depth_mm=depth, pitch_mm=pitch, legs=style.meander_legs)
+
+
 def meander_depth_mm(spec: Spec, height_mm: float) -> float | None:
     style = spec.style
     if style.kind != "meandered":
@@ -182,15 +202,22 @@ def generate_copper(spec: Spec, sizing: Sizing) -> IfaCopper:
         feed_root_mm=spec.feed.pad_length_mm / 2,
         short_root_mm=SHORT_ROOT_OVERLAP_MM,
     )
-    if spec.style.kind == "meandered":
+    style = spec.style
+    if style.path_mm is not None:
+        params.update(path_mm=style.path_mm, min_pitch_mm=min_path_pitch_mm(spec))
+    elif style.kind == "meandered":
         params.update(
             x_max_mm=arm_x_limit_mm(spec, s),
             min_pitch_mm=min_meander_pitch_mm(spec),
             meander_height_mm=meander_depth_mm(spec, sizing.height_mm),
-            meander_pitch_mm=spec.style.meander_pitch_mm if sizing.meander_pitch_mm is None else sizing.meander_pitch_mm,
+            meander_pitch_mm=style.meander_pitch_mm if sizing.meander_pitch_mm is None else sizing.meander_pitch_mm,
         )
+        if style.meander_start_mm is not None:
+            params["meander_start_mm"] = style.meander_start_mm
+        if style.meander_legs is not None:
+            params["meander_legs"] = style.meander_legs
     _check_ground_under_legs(spec, s)
-    generator = get_generator(spec.style.kind)
+    generator = get_generator(style.generator)
     try:
         copper = generator(**params)
     except InfeasibleSpecError as exc:
@@ -233,6 +260,10 @@ def _check_ground_under_legs(spec: Spec, s: float) -> None:
 
 _SPEC_PATHS = {
     "arm_length_mm": "$.arm.length_mm",
+    "feed_short_spacing_mm": "$.arm.feed_short_spacing_mm",
+    "height_mm": "$.arm.height_mm",
+    "meander_start_mm": "$.style.meander_start_mm",
+    "meander_legs": "$.style.meander_legs",
     "meander_height_mm": "$.style.meander_height_mm",
     "meander_pitch_mm": "$.style.meander_pitch_mm",
 }

@@ -7,10 +7,14 @@ from typing import Callable
 
 from footgen.errors import SpecError
 from footgen.geometry.ifa import IfaCopper, meandered_ifa, straight_ifa
+from footgen.geometry.path import path_ifa
 
+#: By the style's generator name (``StyleSpec.generator``: its kind, or "path" for a meander
+#: drawn as an explicit centreline).
 GENERATORS: dict[str, Callable[..., IfaCopper]] = {
     "straight": straight_ifa,
     "meandered": meandered_ifa,
+    "path": path_ifa,
 }
 
 

@@ -35,6 +35,12 @@ BAND_NAMES = {
     "srd_868": "868 MHz SRD, Europe (863-870 MHz)",
     "ism_915": "915 MHz ISM, Americas (902-928 MHz)",
     "ism_433": "433 MHz ISM, Europe (433.05-434.79 MHz)",
+    "wifi_5g_low": "5 GHz Wi-Fi, U-NII-1/2A (5150-5350 MHz)",
+    "wifi_5g_mid": "5 GHz Wi-Fi, U-NII-2C (5470-5725 MHz)",
+    "wifi_5g_high": "5 GHz Wi-Fi, U-NII-3 (5725-5850 MHz)",
+    "wifi_5g": "5 GHz Wi-Fi, whole span (5150-5850 MHz)",
+    "wifi_6g": "6 GHz Wi-Fi, U-NII-5 to 8 (5925-7125 MHz)",
+    "wifi_6g_eu": "6 GHz Wi-Fi, Europe (5945-6425 MHz)",
 }
 BANDS = tuple(BAND_NAMES)
 CUSTOM_BAND = "custom centre frequency"
