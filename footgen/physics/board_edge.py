@@ -105,12 +105,15 @@ def _rounded(length_m: float) -> float:
 def equivalent_laminate(ifa: PrintedIfa) -> Laminate:
     """The laminate the laterally infinite models should use for ``ifa``: ``ifa.laminate`` itself
     when the board edge is not given, else one with the length-weighted equivalent ``eps_r`` of
-    the arm's horizontal pieces (loss tangent and thicknesses unchanged)."""
+    the arms' horizontal pieces (loss tangent and thicknesses unchanged)."""
     lam = ifa.laminate
     if ifa.board_edge_y_m is None:
         return lam
     pieces: dict[float, float] = {}
-    for (x0, y0), (x1, y1) in zip(ifa.arm_path_m, ifa.arm_path_m[1:]):
+    pieces_m = list(zip(ifa.arm_path_m, ifa.arm_path_m[1:]))
+    if ifa.second_arm_path_m:  # a dual-band IFA's second arm sits beside the same edge
+        pieces_m += list(zip(ifa.second_arm_path_m, ifa.second_arm_path_m[1:]))
+    for (x0, y0), (x1, y1) in pieces_m:
         # a piece whose copper reaches the ground edge (a wide trace low in a meander) has no
         # strip-beside-edge cross-section: it is left out of the mean
         if abs(y1 - y0) < HORIZONTAL_TOL_M and y0 - 0.5 * ifa.trace_width_m > MIN_GAP_M:
