@@ -66,9 +66,13 @@ def _quarter_wave_mm(spec: Spec, f_hz: float, height_mm: float) -> float:
 class _DualEvaluator:
     """The whole copper for trial lengths and tap, and its MoM response on both band windows."""
 
-    def __init__(self, spec: Spec, h1: float, h2: float, mesh: dict[str, float] | None) -> None:
+    def __init__(self, spec: Spec, h1: float, h2: float, mesh: dict[str, float] | None,
+                 goals_hz: tuple[float, float] | None = None) -> None:
         self.spec, self.h1, self.h2, self.mesh = spec, h1, h2, mesh
         self.bands = spec.targets
+        #: where each resonance of the model is wanted (the band centres; retune: the centres
+        #: carried back through the measured / modelled resonance ratios)
+        self.goals_hz = goals_hz or tuple(t.center_hz for t in self.bands)
         self.f_top = WINDOW_HIGH * max(t.high_hz for t in self.bands)
         self.solves = 0
 
@@ -105,14 +109,17 @@ class _DualEvaluator:
         return out
 
 
-def _tune_lengths(ev: _DualEvaluator, st: _State, steps: int) -> tuple[_State, list[tuple[np.ndarray, np.ndarray]]]:
-    """Move the free arm lengths until both resonances sit on their band centres."""
+def _tune_lengths(ev: _DualEvaluator, st: _State, steps: int,
+                  free: tuple[bool, bool] | None = None) -> tuple[_State, list[tuple[np.ndarray, np.ndarray]]]:
+    """Move the free arm lengths (default: those the spec leaves to the sizing) until both
+    resonances sit on their goals."""
     spec = ev.spec
-    free = (spec.arm.length_mm is None, spec.second_arm.length_mm is None)
+    if free is None:
+        free = (spec.arm.length_mm is None, spec.second_arm.length_mm is None)
     resp = ev.response(st)
     for _ in range(steps):
         f_res = ev.resonances(resp)
-        errors = [f / t.center_hz - 1.0 for f, t in zip(f_res, ev.bands)]
+        errors = [f / goal - 1.0 for f, goal in zip(f_res, ev.goals_hz)]
         if all(abs(e) < RESONANCE_RTOL or not ok for e, ok in zip(errors, free)):
             break
         new = _State(st.length_mm, st.second_length_mm, st.spacing_mm)
@@ -120,7 +127,7 @@ def _tune_lengths(ev: _DualEvaluator, st: _State, steps: int) -> tuple[_State, l
             if not ok:
                 continue
             old = (st.length_mm, st.second_length_mm)[k]
-            target = (old + h) * f_res[k] / ev.bands[k].center_hz - h
+            target = (old + h) * f_res[k] / ev.goals_hz[k] - h
             target = min(max(target, old * (1 - MAX_LENGTH_STEP_FRACTION)), old * (1 + MAX_LENGTH_STEP_FRACTION))
             if k == 0:
                 new.length_mm = target
@@ -151,9 +158,31 @@ def _check_fits(ev: _DualEvaluator, st: _State) -> None:
         raise
 
 
+def choose_tap(ev: _DualEvaluator, st: _State, resp: list[tuple[np.ndarray, np.ndarray]],
+               free: tuple[bool, bool] | None = None) -> _State:
+    """The feed tap among TAP_CANDIDATES (each with its lengths re-tuned) whose worse band has
+    the lowest in-band |S11|; ``st`` itself when none is better."""
+    from footgen.sizing import MAX_SPACING_PER_ARM, min_spacing_mm
+
+    lo = min_spacing_mm(ev.spec)
+    hi = max(lo, min(TAP_SPAN * lo, MAX_SPACING_PER_ARM * st.length_mm))
+    best = (max(ev.worst_in_band_db(resp)), st)
+    for tap in np.geomspace(lo, hi, TAP_CANDIDATES):
+        if abs(tap - st.spacing_mm) < 1e-6:
+            continue
+        try:
+            trial, trial_resp = _tune_lengths(ev, _State(st.length_mm, st.second_length_mm, float(tap)), 2, free)
+        except InfeasibleSpecError:
+            continue
+        worst = max(ev.worst_in_band_db(trial_resp))
+        if worst < best[0]:
+            best = (worst, trial)
+    return best[1]
+
+
 def size_dual(spec: Spec, model: str) -> Sizing:
     """Sizing of a dual-band spec (``spec.second_arm`` set) with the MoM (``model`` "mom")."""
-    from footgen.sizing import MAX_SPACING_PER_ARM, SEARCH_MESH, min_spacing_mm
+    from footgen.sizing import SEARCH_MESH, min_spacing_mm
 
     second = spec.second_arm
     assert second is not None
@@ -176,20 +205,7 @@ def size_dual(spec: Spec, model: str) -> Sizing:
     search = _DualEvaluator(spec, h1, h2, SEARCH_MESH if model == "mom" else None)
     st, resp = _tune_lengths(search, st, RESONANCE_STEPS)
     if spec.arm.feed_short_spacing_mm is None:
-        lo = min_spacing_mm(spec)
-        hi = max(lo, min(TAP_SPAN * lo, MAX_SPACING_PER_ARM * st.length_mm))
-        best = (max(search.worst_in_band_db(resp)), st)
-        for tap in np.geomspace(lo, hi, TAP_CANDIDATES):
-            if abs(tap - st.spacing_mm) < 1e-6:
-                continue
-            try:
-                trial, trial_resp = _tune_lengths(search, _State(st.length_mm, st.second_length_mm, float(tap)), 2)
-            except InfeasibleSpecError:
-                continue
-            worst = max(search.worst_in_band_db(trial_resp))
-            if worst < best[0]:
-                best = (worst, trial)
-        st = best[1]
+        st = choose_tap(search, st, resp)
     final = _DualEvaluator(spec, h1, h2, None)
     st, resp = _tune_lengths(final, st, FINAL_STEPS)
     f_res = final.resonances(resp)
