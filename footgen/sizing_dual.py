@@ -117,6 +117,10 @@ def _tune_lengths(ev: _DualEvaluator, st: _State, steps: int,
     if free is None:
         free = (spec.arm.length_mm is None, spec.second_arm.length_mm is None)
     resp = ev.response(st)
+    # lengths known to resonate above (too short) and below (too long) each goal: a step that
+    # leaves this bracket bisects it instead (a shallow second dip can make the min-|S11|
+    # frequency jump between two dips as the length changes)
+    bracket = [[0.0, math.inf], [0.0, math.inf]]
     for _ in range(steps):
         f_res = ev.resonances(resp)
         errors = [f / goal - 1.0 for f, goal in zip(f_res, ev.goals_hz)]
@@ -127,8 +131,12 @@ def _tune_lengths(ev: _DualEvaluator, st: _State, steps: int,
             if not ok:
                 continue
             old = (st.length_mm, st.second_length_mm)[k]
+            bracket[k][0 if errors[k] > 0 else 1] = old
             target = (old + h) * f_res[k] / ev.goals_hz[k] - h
             target = min(max(target, old * (1 - MAX_LENGTH_STEP_FRACTION)), old * (1 + MAX_LENGTH_STEP_FRACTION))
+            lo, hi = bracket[k]
+            if not lo < target < hi and math.isfinite(hi) and lo > 0.0:
+                target = 0.5 * (lo + hi)
             if k == 0:
                 new.length_mm = target
             else:
