@@ -325,7 +325,7 @@ class _StdoutToFile:
 
 
 def solve_case(case: dict[str, Any], level: str, keep: bool = False,
-               radiation_freqs_hz: list[float] | None = None) -> dict[str, Any]:
+               radiation_freqs_hz: list[float] | None = None, reuse_run: bool = False) -> dict[str, Any]:
     """Build and run the openEMS model of one case; return the result record (JSON-ready).
 
     With ``radiation_freqs_hz`` the copper is a conducting sheet (annealed copper conductivity,
@@ -383,19 +383,23 @@ def solve_case(case: dict[str, Any], level: str, keep: bool = False,
                                   float(mesh["air_margin_m"]), radiation_freqs_hz)
 
     sim_path = SIM_ROOT / f"{name}_{level}{'_rad' if radiation_freqs_hz else ''}"
-    if sim_path.exists():
-        shutil.rmtree(sim_path)
-    sim_path.mkdir(parents=True)
     log_path = sim_path / "openems_stdout.log"
-    log(f"{name}/{level}: running openEMS ({NUM_THREADS} thread), log {log_path}")
-    t0 = time.monotonic()
-    cwd = os.getcwd()  # openEMS's Run changes the working directory to sim_path
-    try:
-        with _StdoutToFile(log_path):
-            fdtd.Run(str(sim_path), cleanup=False, verbose=1, numThreads=NUM_THREADS)
-    finally:
-        os.chdir(cwd)
-    wall_s = time.monotonic() - t0
+    if reuse_run and log_path.exists():  # post-process a kept, finished run of the same model
+        log(f"{name}/{level}: reading the finished run in {sim_path}")
+        wall_s = float(re.findall(r"Time for \d+ iterations with [0-9.]+ cells : ([0-9.]+) sec", log_path.read_text(errors="replace"))[-1])
+    else:
+        if sim_path.exists():
+            shutil.rmtree(sim_path)
+        sim_path.mkdir(parents=True)
+        log(f"{name}/{level}: running openEMS ({NUM_THREADS} thread), log {log_path}")
+        t0 = time.monotonic()
+        cwd = os.getcwd()  # openEMS's Run changes the working directory to sim_path
+        try:
+            with _StdoutToFile(log_path):
+                fdtd.Run(str(sim_path), cleanup=False, verbose=1, numThreads=NUM_THREADS)
+        finally:
+            os.chdir(cwd)
+        wall_s = time.monotonic() - t0
     text = log_path.read_text(errors="replace")
     steps_match = re.findall(r"Time for (\d+) iterations", text)
     energy_match = re.findall(r"\(-\s*([0-9.]+)\s*dB\)", text)
@@ -412,8 +416,8 @@ def solve_case(case: dict[str, Any], level: str, keep: bool = False,
     if "bands_mhz" in case:  # dual-band: the figures of each band's own window
         derived["bands"] = []
         for lo, hi in band_windows_hz(case):
-            keep = (freqs >= lo) & (freqs <= hi)
-            derived["bands"].append({"window_hz": [lo, hi], **derived_figures(freqs[keep], s11[keep], zin[keep])})
+            window = (freqs >= lo) & (freqs <= hi)
+            derived["bands"].append({"window_hz": [lo, hi], **derived_figures(freqs[window], s11[window], zin[window])})
     radiation = None
     if nf2ff_box is not None:
         from radiation import far_field_summary
@@ -527,6 +531,8 @@ def main(argv: list[str] | None = None) -> int:
     parser.add_argument("--mesh", choices=sorted(CELLS_PER_WIDTH), default="fine")
     parser.add_argument("--suffix", default="", help="appended to the result file name")
     parser.add_argument("--keep", action="store_true", help="keep the openEMS run directory")
+    parser.add_argument("--reuse-run", action="store_true",
+                        help="post-process a kept, finished run directory of the same case instead of solving")
     parser.add_argument("--mesh-only", action="store_true", help="print mesh sizes, no solve")
     parser.add_argument("--radiation-mhz", type=float, action="append",
                         help="near-to-far-field transform at this frequency (repeatable); "
@@ -551,7 +557,7 @@ def main(argv: list[str] | None = None) -> int:
                 f"{max(max_ratio(m[k]) for k in 'xyz'):.3f}")
             continue
         rad = [f * 1e6 for f in args.radiation_mhz] if args.radiation_mhz else None
-        record = solve_case(case, args.mesh, keep=args.keep, radiation_freqs_hz=rad)
+        record = solve_case(case, args.mesh, keep=args.keep, radiation_freqs_hz=rad, reuse_run=args.reuse_run)
         path = args.out / f"{case['name']}{args.suffix}.json"
         with open(path, "w", encoding="utf-8") as handle:
             json.dump(record, handle, indent=1)
