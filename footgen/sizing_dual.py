@@ -40,6 +40,8 @@ TAP_CANDIDATES = 4
 BAND_POINTS = 5
 #: The goal of the sizing: S11 at or below this over both bands (dB).
 GOAL_DB = -10.0
+#: Models that solve the whole copper (both arms); any other gets the quarter-wave first guess.
+MOM_MODELS = ("mom", "mom-search")
 #: A length step never more than this fraction of the arm (keeps a far guess from overshooting).
 MAX_LENGTH_STEP_FRACTION = 0.35
 
@@ -210,6 +212,10 @@ def size_dual(spec: Spec, model: str) -> Sizing:
         spacing,
     )
     _check_fits(_DualEvaluator(spec, h1, h2, None), st)
+    if model not in MOM_MODELS:  # the fast start model: the quarter-wave first guess alone
+        return Sizing(st.length_mm, h1, st.spacing_mm, "quarter-wave first guess of both arms (no coupling)",
+                      ("first guess only: size with the mom model for the coupled arms",),
+                      second_arm_length_mm=st.second_length_mm, second_arm_height_mm=h2)
     search = _DualEvaluator(spec, h1, h2, SEARCH_MESH if model == "mom" else None)
     st, resp = _tune_lengths(search, st, RESONANCE_STEPS)
     if spec.arm.feed_short_spacing_mm is None:

@@ -68,7 +68,7 @@ def second_arm_path(spec: Spec, *, length_mm: float, height_mm: float, main_heig
     w = spec.trace_width_mm
     if length_mm <= LENGTH_EPS_MM:
         raise InfeasibleSpecError("$.second_arm.length_mm", length_mm, "must be > 0")
-    if second.kind == "straight":
+    if second.kind == "straight" or length_mm <= x_max_mm + LENGTH_EPS_MM:  # a meander that fits straight is straight
         if length_mm > x_max_mm + LENGTH_EPS_MM:
             raise InfeasibleSpecError(
                 "$.second_arm.length_mm" if second.length_mm is not None else "$.clearance.width_mm",
@@ -84,9 +84,15 @@ def second_arm_path(spec: Spec, *, length_mm: float, height_mm: float, main_heig
                                   f"turns {'under' if below else 'above'} the arm have {max(room, 0):.2f} mm of room; at most that")
     # the main IFA's meander layout with the feed as its start (no short leg before it); turns
     # fall below the arm, so an arm above the main one is laid out mirrored about its height
-    copper = meandered_ifa(arm_length_mm=length_mm, height_mm=height_mm, feed_short_spacing_mm=0.0,
-                           trace_width_mm=w, short_width_mm=w, x_max_mm=x_max_mm, min_pitch_mm=min_pitch_mm,
-                           meander_height_mm=depth)
+    try:
+        copper = meandered_ifa(arm_length_mm=length_mm, height_mm=height_mm, feed_short_spacing_mm=0.0,
+                               trace_width_mm=w, short_width_mm=w, x_max_mm=x_max_mm, min_pitch_mm=min_pitch_mm,
+                               meander_height_mm=depth)
+    except InfeasibleSpecError as exc:  # said in the second arm's own fields
+        given = {"meander_height_mm": second.meander_height_mm, "arm_length_mm": second.length_mm}
+        fallback = {"meander_height_mm": "$.second_arm.height_mm", "arm_length_mm": "$.clearance.width_mm"}
+        path = f"$.second_arm.{exc.path.replace('arm_', '', 1) if exc.path == 'arm_length_mm' else exc.path}" if given.get(exc.path) is not None else fallback.get(exc.path, "$.second_arm")
+        raise InfeasibleSpecError(path, exc.value, exc.fix) from None
     if below:
         return copper.arm_path
     return tuple((x, 2 * height_mm - y) for x, y in copper.arm_path)
