@@ -21,7 +21,7 @@ import tempfile
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parent.parent
-TEMPLATE = ROOT / "templates" / "dual-2g4-5g-straight.json"
+TEMPLATE = ROOT / "templates" / "ism-2g4-wifi5-dual.json"
 
 SNIPPET = """
 import sys, time

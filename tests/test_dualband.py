@@ -21,7 +21,7 @@ from footgen.model import printed_ifa
 from footgen.rules import check
 from footgen.spec import parse_spec
 
-TEMPLATE = json.loads((ROOT / "templates" / "dual-2g4-5g-straight.json").read_text("utf-8"))
+TEMPLATE = json.loads((ROOT / "templates" / "ism-2g4-wifi5-dual.json").read_text("utf-8"))
 EXAMPLE = json.loads((ROOT / "examples" / "greenhouse-hub-dual.json").read_text("utf-8"))
 #: Copper-gap slack of the geometry checks (mm): far below the 1 nm output grid.
 GAP_SLACK_MM = 1e-6
