@@ -199,7 +199,8 @@ def s11_figure(data: ReportData):
                                                      "label": f"{data.matched_on} with match ({best.label})"}))
     marked = 2 if data.measured is not None and data.corrected_s11 is not None else (1 if data.measured is not None else 0)
     title = f"{data.spec.name} revision {data.spec.revision}: S11 against 50 ohm (markers on the {curves[marked][2]['label'].split(' (')[0]} curve)"
-    return plot(title, (data.spec.target.low_hz, data.spec.target.high_hz), curves, marked=marked)
+    more = tuple((t.low_hz, t.high_hz) for t in data.spec.targets[1:])  # a dual-band antenna's second band
+    return plot(title, (data.spec.target.low_hz, data.spec.target.high_hz), curves, marked=marked, more_bands_hz=more)
 
 
 def smith_figure(data: ReportData):

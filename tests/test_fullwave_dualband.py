@@ -128,15 +128,37 @@ def test_each_band_resonance_within_2_percent_of_openems(table, record_property)
 
 
 def test_each_band_bandwidth_within_15_percent_of_openems(table, record_property) -> None:
-    """Each band's -10 dB bandwidth against openEMS (both must reach -10 dB)."""
+    """Each band's -10 dB bandwidth against openEMS; a band that never reaches -10 dB must do so
+    in both solvers (then there is no bandwidth to compare)."""
     errors = []
     for name, k, ours, ref in table:
-        assert ref["bandwidth_hz"] is not None, f"{name} band {k + 1}: openEMS never reaches -10 dB"
-        assert ours["bandwidth_hz"] is not None, f"{name} band {k + 1}: our model never reaches -10 dB"
-        errors.append((name, k, ours["bandwidth_hz"] / ref["bandwidth_hz"] - 1.0))
+        assert (ours["bandwidth_hz"] is None) == (ref["bandwidth_hz"] is None), (
+            f"{name} band {k + 1}: -10 dB band ours {ours['band']}, openEMS {ref['band']}")
+        if ref["bandwidth_hz"] is not None:
+            errors.append((name, k, ours["bandwidth_hz"] / ref["bandwidth_hz"] - 1.0))
+    assert errors, "no band reaches -10 dB in both solvers"
     worst = max(errors, key=lambda e: abs(e[2]))
     text = "\n".join(_lines(table)) + f"\nworst bandwidth error: {worst[0]} band {worst[1] + 1} {worst[2]:+.1%}"
     print(text)
     record_property("worst_dualband_bandwidth_error", f"{worst[0]} band {worst[1] + 1} {worst[2]:+.4f}")
     # source: openEMS (Debian package, FDTD), stored results of the dual-band cases
     assert abs(worst[2]) <= BANDWIDTH_REL_TOL, text
+
+
+#: Input impedance at each band's S11 minimum, compared as reflection coefficients (50 ohm):
+#: |Gamma_ours - Gamma_openEMS| at most this (0.1 is about 1 dB of return loss near -10 dB;
+#: common practice, no source).
+ZIN_GAMMA_TOL = 0.1
+
+
+def test_each_band_zin_at_the_minimum_matches_openems(table, record_property) -> None:
+    def gamma(z: complex) -> complex:
+        return (z - 50.0) / (z + 50.0)
+
+    errors = [(name, k, abs(gamma(ours["zin"]) - gamma(ref["zin"]))) for name, k, ours, ref in table]
+    worst = max(errors, key=lambda e: e[2])
+    text = "\n".join(_lines(table)) + f"\nworst |Gamma| difference at the minimum: {worst[0]} band {worst[1] + 1} {worst[2]:.3f}"
+    print(text)
+    record_property("worst_dualband_gamma_difference", f"{worst[0]} band {worst[1] + 1} {worst[2]:.4f}")
+    # source: openEMS (Debian package, FDTD), stored results of the dual-band cases
+    assert worst[2] <= ZIN_GAMMA_TOL, text
