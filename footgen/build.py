@@ -6,7 +6,7 @@ Everything here returns data; :func:`write_build` is the one place that touches 
 from __future__ import annotations
 
 import json
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from functools import cached_property
 from pathlib import Path
 from typing import TYPE_CHECKING
@@ -57,12 +57,21 @@ class BuildResult:
         return output_names(self.spec)["footprint"]
 
 
+def enclosure_words(spec: Spec) -> str:
+    """The spec's enclosure wall in words (for the footprint description and the report)."""
+    wall = spec.enclosure
+    assert wall is not None
+    return f"eps_r {wall.eps_r:g}, {wall.thickness_mm:g} mm thick, {wall.distance_mm:g} mm from the copper"
+
+
 def footprint_meta(spec: Spec) -> FootprintMeta:
     from footgen.kicad.writer import FootprintMeta
 
     band = f"{spec.target.low_hz / 1e6:g}-{spec.target.high_hz / 1e6:g} MHz"
     style = "meandered inverted-F antenna" if spec.style.kind == "meandered" else "inverted-F antenna"
     description = f"Printed {style}, {band}, eps_r {spec.laminate.eps_r:g}, {spec.laminate.thickness_mm:g} mm laminate"
+    if spec.enclosure is not None:
+        description += f", sized under an enclosure wall ({enclosure_words(spec)})"
     if spec.description:
         description += f"; {spec.description}"
     return FootprintMeta(
@@ -129,6 +138,7 @@ def report_markdown(result: BuildResult) -> str:
         "| --- | --- |",
         f"| band | {spec.target.low_hz / 1e6:g} to {spec.target.high_hz / 1e6:g} MHz ({spec.target.label}) |",
         f"| laminate | eps_r {spec.laminate.eps_r:g}, {spec.laminate.thickness_mm:g} mm |",
+        *([f"| enclosure wall over the copper | {enclosure_words(spec)} |"] if spec.enclosure is not None else []),
         f"| style | {spec.style.kind} |",
         f"| arm length (centreline, from above the short) | {d['arm_length_mm']:.3f} mm |",
         f"| arm height above the ground edge | {d['arm_height_mm']:.3f} mm |",
@@ -214,11 +224,16 @@ def build_spec_file(spec_path: Path, out_dir: Path, *, force: bool = False, allo
     return result, write_build(result, out_dir, force=force, allow_violations=allow_violations)
 
 
+def with_png(spec: Spec) -> Spec:
+    """``spec`` with the PNG of its drawing asked for (as ``output.drawing_png: true`` does)."""
+    return replace(spec, output=replace(spec.output, drawing_png=True))
+
+
 def build_spec_files(spec_paths: list[Path], out_dir: Path, *, force: bool = False,
-                     allow_violations: bool = False) -> list[tuple[BuildResult, list[Path]]]:
+                     allow_violations: bool = False, png: bool = False) -> list[tuple[BuildResult, list[Path]]]:
     """Build several specs into one folder in one process.  Every spec is loaded, sized and
     checked before anything is written, so bad input in any of them leaves the disk untouched;
-    an error names the spec file it came from."""
+    an error names the spec file it came from.  ``png``: write every drawing's PNG too."""
     results: list[BuildResult] = []
     names: dict[str, Path] = {}
 
@@ -231,6 +246,8 @@ def build_spec_files(spec_paths: list[Path], out_dir: Path, *, force: bool = Fal
             raise
 
     specs = [(path, naming(path, lambda path=path: load_spec(path))) for path in spec_paths]
+    if png:
+        specs = [(path, with_png(spec)) for path, spec in specs]
     targets = sorted({rel for _, spec in specs for rel in output_names(spec).values()})
     precheck_edits(Path(out_dir), targets, force=force)  # every edited file, before any solve
     for path, spec in specs:

@@ -142,10 +142,11 @@ def validate_cmd(spec: Path) -> None:
 @click.option("-o", "--out", "out_dir", required=True, type=click.Path(file_okay=False, path_type=Path), help="Output folder.")
 @click.option("--force", is_flag=True, help="Replace files even if they were edited by hand.")
 @click.option("--allow-violations", is_flag=True, help="Write the footprint even when the rule check finds errors.")
-def build_cmd(specs: tuple[Path, ...], out_dir: Path, force: bool, allow_violations: bool) -> None:
+@click.option("--png", is_flag=True, help="Also write the copper drawing as PNG (as output.drawing_png: true does).")
+def build_cmd(specs: tuple[Path, ...], out_dir: Path, force: bool, allow_violations: bool, png: bool) -> None:
     """Size, lay out and check each SPEC; write OUT/<library>.pretty/<name>.kicad_mod, the report,
-    the rule-check JSON and the copper drawing (SVG, PNG) beside it.  Several specs are built
-    in one run; bad input in any of them writes nothing.
+    the rule-check JSON and the copper drawing (SVG; PNG when asked) beside it.  Several specs
+    are built in one run; bad input in any of them writes nothing.
 
     Exits 1 (and writes no footprint for that spec) when the rule check finds errors.
 
@@ -157,7 +158,7 @@ def build_cmd(specs: tuple[Path, ...], out_dir: Path, force: bool, allow_violati
     from footgen.build import build_spec_files
 
     failed = False
-    for result, written in build_spec_files(list(specs), out_dir, force=force, allow_violations=allow_violations):
+    for result, written in build_spec_files(list(specs), out_dir, force=force, allow_violations=allow_violations, png=png):
         for path in written:
             click.echo(f"wrote {path}")
         for v in result.violations:
@@ -346,7 +347,8 @@ def testboard_cmd(
 
 def _register_loop_commands() -> None:
     """retune, diff, match, report: the measure-and-retune loop (footgen.cli_rf); sites: the
-    board placement core for the KiCad plugins (footgen.cli_place)."""
+    board placement core for the KiCad plugins (footgen.cli_place); yield: the Monte Carlo of
+    the built boards (footgen.cli_yield)."""
     from footgen import cli_rf
 
     for command in (cli_rf.retune_cmd, cli_rf.diff_cmd, cli_rf.match_cmd, cli_rf.report_cmd):
@@ -354,6 +356,9 @@ def _register_loop_commands() -> None:
     from footgen import cli_place
 
     main.add_command(cli_place.sites_cmd)
+    from footgen import cli_yield
+
+    main.add_command(cli_yield.yield_cmd)
 
 
 _register_loop_commands()

@@ -25,6 +25,7 @@ MAX_SIZING_SECONDS = 86400.0
 
 #: internal name found in a message -> (spec field, what to change)
 TRANSLATIONS: dict[str, tuple[str, str]] = {
+    "enclosure wall": ("$.enclosure", "the enclosure wall cannot be modelled; give its eps_r (1 to 15), thickness_mm and distance_mm above 0"),
     "board_gap_m": ("$.clearance.edge_distance_mm", "the board edge beyond the clearance area cannot be modelled; give the distance as built (0 or more mm)"),
     "port_gap_m": ("$.feed.port_gap_mm", "the gap around the feed pad cannot be modelled; give a gap of at least the fab copper clearance"),
     "feed_x_m": ("$.arm.feed_short_spacing_mm", "the feed tap does not land on the arm; give a smaller feed tap or leave it to the sizing"),

@@ -4,8 +4,8 @@ from __future__ import annotations
 
 from footgen.geometry.ifa import IfaCopper
 from footgen.geometry.layout import ground_x_range_mm
-from footgen.physics.ifa import GroundPlane, Laminate, PrintedIfa
-from footgen.spec import Spec
+from footgen.physics.ifa import Cover, GroundPlane, Laminate, PrintedIfa
+from footgen.spec import EnclosureSpec, Spec
 
 MM = 1e-3
 #: A final arm segment shorter than this fraction of the trace width is left out of the physics
@@ -43,4 +43,10 @@ def printed_ifa(spec: Spec, copper: IfaCopper) -> PrintedIfa:
         board_edge_y_m=(spec.clearance.depth_mm + spec.clearance.edge_distance_mm) * MM,
         second_arm_path_m=(tuple((x * MM, y * MM) for x, y in _physics_path(copper.second_arm_path, spec.trace_width_mm))
                            if copper.second_arm_path else None),
+        cover=None if spec.enclosure is None else cover(spec.enclosure),
     )
+
+
+def cover(enclosure: EnclosureSpec) -> Cover:
+    """The physics model of the spec's enclosure wall."""
+    return Cover(eps_r=enclosure.eps_r, thickness_m=enclosure.thickness_mm * MM, distance_m=enclosure.distance_mm * MM)

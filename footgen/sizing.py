@@ -66,6 +66,9 @@ class ResponseModel:
     #: name of a cheaper model (same physics, coarser discretisation) the synthesis searches
     #: with before its final pass with this one; None: search with this model
     search_model: str | None = None
+    #: size_check(ifa, f_max_hz) refuses a copper the model could not solve (too many
+    #: unknowns) before any sizing work; None: every copper can be solved
+    size_check: Callable[[PrintedIfa, float], None] | None = None
 
 
 def _mom_zin(freq_hz: np.ndarray, ifa: PrintedIfa, progress: Callable[[int, int], None] | None = None,
@@ -92,16 +95,29 @@ def mom_solver(ifa: PrintedIfa, f_max_hz: float, mesh: dict[str, float] | None =
     """The MoM solver :func:`_mom_zin` uses for ``ifa`` up to ``f_max_hz`` (same wire mesh), so the
     far field (:mod:`footgen.radiation`) sees the currents of the predicted S11."""
     from footgen.physics.mom import MomSolver
-    from footgen.physics.tline_ifa import quarter_wave_estimate_hz
     from footgen.physics.wires import MeshControl, ifa_wire_model
 
-    mesh_hz = MOM_MESH_PER_ESTIMATE * quarter_wave_estimate_hz(ifa)
-    if f_max_hz > MOM_MESH_STRETCH * mesh_hz:  # far above: mesh for the sweep itself
-        mesh_hz = f_max_hz
     sizing_cache.sync_board_edge()  # board-edge 2-D solves of earlier runs: load once per process
+    mesh_hz = _mom_mesh_hz(ifa, f_max_hz)  # (the quarter-wave estimate needs them too)
     solver = MomSolver(ifa_wire_model(ifa, mesh_hz, control=MeshControl(f_max_hz=mesh_hz, **(mesh or {}))), mixed_precision=mixed_precision)
     sizing_cache.sync_board_edge()  # keep any new ones for later runs
     return solver
+
+
+def _mom_mesh_hz(ifa: PrintedIfa, f_max_hz: float) -> float:
+    """Frequency the MoM wire model of ``ifa`` is meshed for when solved up to ``f_max_hz``."""
+    from footgen.physics.tline_ifa import quarter_wave_estimate_hz
+
+    mesh_hz = MOM_MESH_PER_ESTIMATE * quarter_wave_estimate_hz(ifa)
+    return f_max_hz if f_max_hz > MOM_MESH_STRETCH * mesh_hz else mesh_hz  # far above: mesh for the sweep
+
+
+def _mom_size_check(ifa: PrintedIfa, f_max_hz: float, mesh: dict[str, float] | None = None) -> None:
+    """Refuse at once a copper whose MoM wire model (as :func:`mom_solver` meshes it) is too big."""
+    from footgen.physics.wires import MeshControl, check_ifa_model_size
+
+    mesh_hz = _mom_mesh_hz(ifa, f_max_hz)
+    check_ifa_model_size(ifa, mesh_hz, MeshControl(f_max_hz=mesh_hz, **(mesh or {})))
 
 
 def _mom_resonance_hz(ifa: PrintedIfa, mesh: dict[str, float] | None = None) -> float:
@@ -148,11 +164,13 @@ MODELS: dict[str, ResponseModel] = {
         _mom_resonance_hz,
         _mom_zin,
         search_model="mom-search",
+        size_check=_mom_size_check,
     ),
     "mom-search": ResponseModel(
         "thin-wire method of moments (footgen.physics.mom), coarser ground grid (synthesis search)",
         lambda ifa: _mom_resonance_hz(ifa, mesh=SEARCH_MESH),
         lambda f, ifa, progress=None: _mom_zin(f, ifa, progress, mesh=SEARCH_MESH),
+        size_check=lambda ifa, f_max_hz: _mom_size_check(ifa, f_max_hz, SEARCH_MESH),
     ),
 }
 #: The fast model that gives every other model its starting point.
@@ -359,7 +377,11 @@ def size(spec: Spec, model: str = DEFAULT_MODEL) -> Sizing:
     cached = sizing_cache.load(key, model)
     if cached is not None:
         return cached
+    sizing_cache.sync_board_edge()  # the start model sees the board edge too
     start = _size_with(spec, START_MODEL)
+    size_check = MODELS[model].size_check
+    if size_check is not None:  # a model too big to solve is refused before the search, not after
+        size_check(printed_ifa(spec, generate_copper(spec, start)), spec.target.center_hz * (1.0 + PREDICTION_HALF_SPAN))
     result = start if model == START_MODEL else refine(spec, start, model)
     sizing_cache.store(key, model, result)
     return result

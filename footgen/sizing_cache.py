@@ -143,12 +143,19 @@ def sync_board_edge() -> None:
     if not _board_edge_state["loaded"]:
         _board_edge_state["loaded"] = True
         try:
-            stored = {tuple(row[:5]): row[5] for row in json.loads(path.read_text("utf-8")) if len(row) == 6}
+            rows = json.loads(path.read_text("utf-8"))
+            stored = {tuple(row[:5]): row[5] for row in rows if len(row) == 6}
+            # cross-sections under an enclosure wall: 8 key numbers, equivalent eps_r, loss factor
+            covered = {tuple(row[:8]): (row[8], row[9]) for row in rows if len(row) == 10}
             board_edge.add_solved(stored)
-            _board_edge_state["stored"] = len(stored)
+            board_edge.add_solved_covered(covered)
+            _board_edge_state["stored"] = len(stored) + len(covered)
         except (OSError, ValueError, TypeError):
             _board_edge_state["stored"] = 0
     solved = board_edge.solved_cross_sections()
-    if len(solved) > _board_edge_state["stored"]:
-        _board_edge_state["stored"] = len(solved)
-        write_atomic(folder, path.name, json.dumps(sorted([*key, eps] for key, eps in solved.items())))
+    covered = board_edge.solved_covered_cross_sections()
+    if len(solved) + len(covered) > _board_edge_state["stored"]:
+        _board_edge_state["stored"] = len(solved) + len(covered)
+        rows = sorted([*key, eps] for key, eps in solved.items())
+        rows += sorted(([*key, *value] for key, value in covered.items()), key=json.dumps)
+        write_atomic(folder, path.name, json.dumps(rows))

@@ -20,6 +20,7 @@ from typing import Any, Callable
 import jsonschema
 
 from footgen.bands import BANDS
+from footgen.constants import C0_M_PER_S
 from footgen.errors import SpecError
 from footgen.strict_json import MAX_JSON_DEPTH, read_json
 from footgen.resources import shipped
@@ -61,6 +62,15 @@ class LaminateSpec:
     thickness_mm: float
     loss_tangent: float
     copper_thickness_mm: float
+
+
+@dataclass(frozen=True)
+class EnclosureSpec:
+    """Plastic enclosure wall over the antenna's copper side (spec section ``enclosure``)."""
+
+    eps_r: float
+    thickness_mm: float
+    distance_mm: float
 
 
 @dataclass(frozen=True)
@@ -179,6 +189,8 @@ class Spec:
     def targets(self) -> tuple[Target, ...]:
         """The bands the antenna serves: the main arm's, then the second arm's (if any)."""
         return (self.target,) if self.second_arm is None else (self.target, self.second_arm.target)
+    #: The enclosure wall over the antenna; ``None``: open air above the board.
+    enclosure: EnclosureSpec | None = None
 
     @property
     def digest(self) -> str:
@@ -392,10 +404,11 @@ def parse_spec(data: object) -> Spec:
         output=OutputSpec(
             rotation_deg=int(out.get("rotation_deg", 0)),
             grid_nm=int(out.get("grid_nm", 1)),
-            drawing_png=bool(out.get("drawing_png", True)),
+            drawing_png=bool(out.get("drawing_png", False)),
         ),
         raw=data,
         second_arm=_second_arm(data["second_arm"]) if "second_arm" in data else None,
+        enclosure=_enclosure(data.get("enclosure")),
     )
     _cross_checks(spec)
     return spec
@@ -434,6 +447,10 @@ def _second_arm(data: dict) -> SecondArmSpec:
         length_mm=_opt(data.get("length_mm")),
         height_mm=_opt(data.get("height_mm")),
     )
+def _enclosure(data: dict | None) -> EnclosureSpec | None:
+    if data is None:
+        return None
+    return EnclosureSpec(float(data["eps_r"]), float(data["thickness_mm"]), float(data["distance_mm"]))
 
 
 def _ground(data: dict) -> GroundPlaneSpec:
@@ -612,8 +629,25 @@ def _check_second_arm(spec: Spec) -> None:
 
 
 #: The cross-field checks, run in this order by :func:`_cross_checks`.
+#: The enclosure wall enters the models quasi-statically (footgen.physics.board_edge), which
+#: holds while the wall is close to the copper on the scale of the wavelength: its distance at
+#: most this fraction of the free-space wavelength at the band's top (common practice, no source).
+MAX_ENCLOSURE_DISTANCE_PER_WAVELENGTH = 0.1
+
+
+def _check_enclosure(spec: Spec) -> None:
+    if spec.enclosure is None:
+        return
+    farthest = MAX_ENCLOSURE_DISTANCE_PER_WAVELENGTH * C0_M_PER_S / spec.target.high_hz * 1e3
+    if spec.enclosure.distance_mm > farthest:
+        raise SpecError("$.enclosure.distance_mm", spec.enclosure.distance_mm,
+                        f"the wall model holds up to a tenth of the wavelength at the band's top; at most "
+                        f"{math.floor(farthest * 10) / 10:g}, or leave out enclosure (a wall that far hardly moves the resonance)")
+
+
 CROSS_CHECKS: dict[str, Callable[[Spec], None]] = {
     "arm_and_ground": _check_arm_and_ground,
+    "enclosure": _check_enclosure,
     "vias": _check_vias,
     "meander": _check_meander,
     "second_arm": _check_second_arm,

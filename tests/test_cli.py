@@ -14,6 +14,7 @@ from footgen.outputs import MANIFEST_NAME
 from conftest import EXAMPLES, ROOT, load_json, run_cli, write_spec
 
 SOIL = ROOT / "examples" / "soil-probe-2g4.json"
+EXPLICIT_SPEC = ROOT / "examples" / "kestrel-beacon-2g4-matched.json"  # geometry given: no sizing
 
 
 def test_build_contract_layout_and_exit_zero(tmp_path: Path) -> None:
@@ -21,12 +22,26 @@ def test_build_contract_layout_and_exit_zero(tmp_path: Path) -> None:
     assert proc.returncode == 0, proc.stderr
     spec = load_json(SOIL)
     assert (tmp_path / f"{spec['library']}.pretty" / f"{spec['name']}.kicad_mod").is_file()
-    for suffix in (".report.md", ".check.json", ".svg", ".png"):
+    for suffix in (".report.md", ".check.json", ".svg"):
         assert (tmp_path / f"{spec['name']}{suffix}").is_file()
+    assert not (tmp_path / f"{spec['name']}.png").exists()  # the PNG only when asked
     assert (tmp_path / MANIFEST_NAME).is_file()
     assert not list(tmp_path.rglob("*.tmp"))  # atomic writes leave no temp files
     report = (tmp_path / f"{spec['name']}.report.md").read_text()
     assert "radio regulations" in report and "RF-exposure" in report
+
+
+def test_build_writes_the_png_only_when_asked(tmp_path: Path) -> None:
+    """`--png` or `output.drawing_png: true` asks for the PNG; the default writes the SVG alone."""
+    spec = load_json(EXPLICIT_SPEC)
+    flagged = run_cli(["build", str(EXPLICIT_SPEC), "-o", str(tmp_path / "flag"), "--png"])
+    assert flagged.returncode == 0, flagged.stderr
+    assert (tmp_path / "flag" / f"{spec['name']}.png").read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+    asked = tmp_path / "asked.json"
+    asked.write_text(json.dumps({**spec, "output": {**spec.get("output", {}), "drawing_png": True}}))
+    proc = run_cli(["build", str(asked), "-o", str(tmp_path / "spec")])
+    assert proc.returncode == 0, proc.stderr
+    assert (tmp_path / "spec" / f"{spec['name']}.png").read_bytes() == (tmp_path / "flag" / f"{spec['name']}.png").read_bytes()
 
 
 def test_python_dash_m_works(tmp_path: Path) -> None:

@@ -300,7 +300,7 @@ def test_board_edge_shift_matches_openems() -> None:
 RESONANCE_GOAL_REL_TOL = 0.02
 
 
-@pytest.mark.xfail(strict=True, reason="known miss of the +-2 % goal: worst +2.29 % (val_meander_a), -2.23 % (val_straight_a)")
+@pytest.mark.xfail(strict=True, reason="known miss of the +-2 % goal: worst -2.40 % (val_straight_a), +2.29 % (val_meander_a)")
 def test_predicted_resonance_within_the_2_percent_goal() -> None:
     rows = _validation_errors()
     # source: openEMS 0.0.35 (Debian package, FDTD) stored results, f at min |S11|
@@ -308,11 +308,12 @@ def test_predicted_resonance_within_the_2_percent_goal() -> None:
 
 
 #: Our own MoM model's discretisation: the default mesh against a much finer one (lambda/30 grid,
-#: w/4 edge rows, lambda/80 segments), f at min |S11| on the development cases (measured 0.01 %,
-#: 0.03 %, 0.35 %).  A self-consistency check, not outside truth.
+#: w/4 edge rows, lambda/80 segments, no grading away from the antenna), f at min |S11| on the
+#: development cases (measured 0.01 %, 0.03 %, 0.35 %).  A self-consistency check, not outside truth.
 MOM_MESH_CONVERGENCE_REL_TOL = 0.005
 FINE_MOM_MESH = {"grid_pitch_per_wavelength": 30.0, "grid_segments_per_wavelength": 30.0,
-                 "edge_row_trace_widths": 0.25, "segments_per_wavelength": 80.0, "detail_segments": 8.0}
+                 "edge_row_trace_widths": 0.25, "segments_per_wavelength": 80.0, "detail_segments": 8.0,
+                 "grid_far_pitch_per_wavelength": None}
 
 
 @pytest.mark.parametrize("case", [c for c in CASES if c["role"] == "development"], ids=lambda c: c["name"])
@@ -324,3 +325,102 @@ def test_our_mom_mesh_is_converged(case: dict) -> None:
     f_lo, f_hi = ifa_cases.sweep_band_hz(case)
     fine = resonance_hz(ifa, f_lo, f_hi, control=MeshControl(f_max_hz=f_hi, **FINE_MOM_MESH))
     assert resonance_hz(ifa, f_lo, f_hi) == pytest.approx(fine, rel=MOM_MESH_CONVERGENCE_REL_TOL)
+
+
+# --- the enclosure wall (PrintedIfa.cover) ---------------------------------------------------------
+
+#: Cases with an enclosure wall over the copper (``cover``), each paired with its twin: the case
+#: with the same board and no wall.
+COVERED = [c for c in CASES if "cover" in c]
+
+
+def _uncovered_twin(case: dict) -> dict:
+    strip = {k: v for k, v in case.items() if k not in ("name", "role", "cover")}
+    twins = [c for c in CASES if "cover" not in c and {k: v for k, v in c.items() if k not in ("name", "role")} == strip]
+    assert len(twins) == 1, f"{case['name']}: no single uncovered twin in cases.json"
+    return twins[0]
+
+
+#: Our wall's resonance shift must be openEMS's within this fraction of openEMS's shift (the
+#: board-edge test's tolerance); the covered resonance must meet the +-3 % requirement
+#: (RESONANCE_REL_TOL) and is held to the +-2 % goal (RESONANCE_GOAL_REL_TOL) by a strict xfail.
+COVER_SHIFT_REL_TOL = 0.25
+#: A pair whose openEMS shift is smaller than this measures no wall at all.
+COVER_MIN_SHIFT = 0.005
+
+
+def _cover_rows() -> list[tuple[str, float, float, float, float]]:
+    """(case, ours bare Hz, ours covered Hz, openEMS bare Hz, openEMS covered Hz) per covered case."""
+    from footgen.physics.predict import resonance_hz
+
+    rows = []
+    for case in COVERED:
+        twin = _uncovered_twin(case)
+        band = ifa_cases.sweep_band_hz(case)
+        ours = [resonance_hz(ifa_cases.case_to_ifa(c), *band) for c in (twin, case)]
+        ref = [_result(c["name"])["derived"]["f_res_hz"] for c in (twin, case)]
+        rows.append((case["name"], *ours, *ref))
+    return rows
+
+
+def test_cover_cases_are_pairs() -> None:
+    assert COVERED, "no case with an enclosure wall"
+    for case in COVERED:
+        assert _uncovered_twin(case)["role"] in ("development", "validation")
+
+
+@pytest.mark.parametrize("case", COVERED, ids=[c["name"] for c in COVERED])
+def test_openems_mesh_resolves_the_cover(case: dict) -> None:
+    """Mesh lines on both faces of the wall and >= MIN_LAMINATE_CELLS cells through it."""
+    eps_c, z_lo, z_hi = driver.cover_extent_m(case)
+    assert eps_c == case["cover"]["eps_r"]
+    for level in sorted(driver.CELLS_PER_WIDTH):
+        z = driver.build_mesh(ifa_cases.case_to_ifa(case), case, level)["z"]
+        assert np.min(np.abs(z - z_lo)) <= 1e-12 and np.min(np.abs(z - z_hi)) <= 1e-12
+        assert np.count_nonzero((z > z_lo - 1e-12) & (z < z_hi + 1e-12)) - 1 >= driver.MIN_LAMINATE_CELLS
+
+
+def test_cover_shift_matches_openems(record_property) -> None:
+    """The enclosure wall lowers the resonance by what openEMS says, and the covered resonance
+    meets the +-3 % requirement."""
+    rows = _cover_rows()
+    lines, worst_shift, worst_res = [], (None, 0.0), (None, 0.0)
+    for name, ob, oc, rb, rc in rows:
+        s_ours, s_ref = oc / ob - 1.0, rc / rb - 1.0
+        shift_err, res_err = s_ours / s_ref - 1.0, oc / rc - 1.0
+        lines.append(f"{name}: openEMS {rb / 1e6:.1f} -> {rc / 1e6:.1f} MHz ({s_ref:+.2%}), ours "
+                     f"{ob / 1e6:.1f} -> {oc / 1e6:.1f} MHz ({s_ours:+.2%}); shift off by {shift_err:+.1%} "
+                     f"of openEMS's, covered resonance {res_err:+.2%}")
+        worst_shift = max(worst_shift, (name, shift_err), key=lambda r: abs(r[1]))
+        worst_res = max(worst_res, (name, res_err), key=lambda r: abs(r[1]))
+    print("\n".join(lines) + f"\nworst shift error: {worst_shift[0]} {worst_shift[1]:+.1%}; "
+          f"worst covered resonance: {worst_res[0]} {worst_res[1]:+.2%}")
+    record_property("worst_cover_shift_error", f"{worst_shift[0]} {worst_shift[1]:+.4f}")
+    record_property("worst_cover_resonance_error", f"{worst_res[0]} {worst_res[1]:+.4f}")
+    for name, ob, oc, rb, rc in rows:
+        # source: openEMS 0.0.35 (Debian package, FDTD), stored results of each case and its twin
+        assert rc / rb - 1.0 < -COVER_MIN_SHIFT, f"{name}: openEMS sees no wall"
+        assert oc / ob - 1.0 == pytest.approx(rc / rb - 1.0, rel=COVER_SHIFT_REL_TOL), "\n".join(lines)
+        assert oc == pytest.approx(rc, rel=RESONANCE_REL_TOL), "\n".join(lines)
+
+
+@pytest.mark.xfail(strict=True, reason="val_straight_a_cover -2.24 % (its bare twin val_straight_a reads -2.40 %: "
+                   "the wall's shift itself is within 6 % of openEMS's)")
+def test_covered_resonance_within_the_2_percent_goal() -> None:
+    rows = _cover_rows()
+    # source: openEMS 0.0.35 (Debian package, FDTD) stored results, f at min |S11|
+    assert max(abs(oc / rc - 1.0) for _, _, oc, _, rc in rows) <= RESONANCE_GOAL_REL_TOL, rows
+
+
+def test_openems_wall_lowers_the_resonance_more_when_closer() -> None:
+    """Known physics (quasi-static effective permittivity, from memory) seen in openEMS itself:
+    the same wall nearer the copper lowers the resonance more."""
+    same_wall = {}
+    for case in COVERED:
+        wall = case["cover"]
+        same_wall.setdefault((_uncovered_twin(case)["name"], wall["eps_r"], wall["thickness_mm"]), []).append(case)
+    pairs = [sorted(cs, key=lambda c: c["cover"]["distance_mm"]) for cs in same_wall.values() if len(cs) > 1]
+    assert pairs, "no two cases with the same wall at two distances"
+    for near, *_, far in pairs:
+        # source: openEMS 0.0.35 (Debian package, FDTD)
+        assert _result(near["name"])["derived"]["f_res_hz"] < _result(far["name"])["derived"]["f_res_hz"]

@@ -13,6 +13,9 @@ its first vertex lies on the feed leg (``x = feed_x_m``) at its own height, belo
 above it (then the feed leg runs on up past the main arm to meet it), and it runs the same way as
 the main arm.  The main arm (the one joined to the short) sets the lower resonance, the second
 arm the upper one; both share the feed and the short.
+
+An enclosure wall (``cover``, if given) is a dielectric layer parallel to the board over the
+copper side, as far from the copper as ``Cover.distance_m``; laterally it covers the board.
 """
 
 from __future__ import annotations
@@ -28,6 +31,17 @@ class Laminate:
     thickness_m: float
     loss_tangent: float = 0.0
     copper_thickness_m: float = 35e-6
+
+
+@dataclass(frozen=True)
+class Cover:
+    """Enclosure wall over the copper side (SI): a lossless plastic layer of relative permittivity
+    ``eps_r`` and thickness ``thickness_m``, parallel to the board, its near face ``distance_m``
+    above the copper."""
+
+    eps_r: float
+    thickness_m: float
+    distance_m: float
 
 
 @dataclass(frozen=True)
@@ -61,6 +75,9 @@ class PrintedIfa:
     board_edge_y_m: float | None = None
     #: Centreline of a second arm branching off the feed leg (dual-band); ``None``: one arm.
     second_arm_path_m: tuple[tuple[float, float], ...] | None = None
+    #: The enclosure wall over the copper side; ``None``: air above the board.  It enters the
+    #: models through the equivalent slab of :mod:`footgen.physics.board_edge`.
+    cover: Cover | None = None
 
     @property
     def height_m(self) -> float:

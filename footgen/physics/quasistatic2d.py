@@ -2,7 +2,9 @@
 
 Cross-section: zero-thickness conductors on the plane ``y = 0`` (intervals of ``x``, possibly
 semi-infinite), an optional dielectric slab ``-h < y < 0`` of infinite lateral extent or ending at
-``x = slab_x_max_m`` (a board edge), air everywhere else.  The Laplace equation ``div(eps grad V) = 0`` is discretised by the
+``x = slab_x_max_m`` (a board edge), an optional second dielectric layer above the conductors
+(``Layer``: an enclosure wall at a distance over the copper, ending where the slab ends), air
+everywhere else.  The Laplace equation ``div(eps grad V) = 0`` is discretised by the
 five-point finite-volume scheme on a tensor grid graded geometrically away from every conductor
 edge and dielectric face, out to a box ``BOX_FACTOR`` times the structure's size whose walls are
 held at 0 V (the far-field truncation error falls like size/box).  The capacitance comes from
@@ -49,6 +51,15 @@ GROWTH_RATIO = 1.18
 BOX_FACTOR = 2.0e4
 #: Memoised cross-sections per function.
 CACHE_SIZE = 4096
+
+
+@dataclass(frozen=True)
+class Layer:
+    """Dielectric layer above the conductor plane: ``distance_m < y < distance_m + thickness_m``."""
+
+    eps_r: float
+    distance_m: float
+    thickness_m: float
 
 
 @dataclass(frozen=True)
@@ -157,30 +168,40 @@ def _solve(
     thickness_m: float | None,
     cells_per_feature: int,
     slab_x_max_m: float | None = None,
+    cover: Layer | None = None,
 ) -> float:
     """Capacitance (F/m) on one grid: ``cells_per_feature`` cells across the smallest strip,
-    gap or slab next to the edges, box ``BOX_FACTOR`` times the largest size; the slab ends at
-    ``x = slab_x_max_m`` if given (that edge is a grid feature)."""
+    gap or slab next to the edges, box ``BOX_FACTOR`` times the largest size; the slab (and the
+    ``cover`` layer above the conductors, if given) ends at ``x = slab_x_max_m`` if given (that
+    edge is a grid feature)."""
     finite = list(edges_m) + ([slab_x_max_m] if slab_x_max_m is not None else [])
     sizes = np.diff(np.unique(finite)) if len(finite) > 1 else np.array([])
     slab_face = thickness_m is not None and math.isfinite(thickness_m)
     features = list(sizes) + ([thickness_m] if slab_face else [])
+    y_features = [0.0, -thickness_m] if slab_face else [0.0]
+    if cover is not None:
+        features += [cover.distance_m, cover.thickness_m]
+        y_features += [cover.distance_m, cover.distance_m + cover.thickness_m]
     smallest = min(features)
-    largest = max(features + [max(abs(e) for e in finite)])
+    largest = max(features + [max(abs(e) for e in finite + y_features)])
     fine = smallest / cells_per_feature
     extent = BOX_FACTOR * largest
     x = graded_nodes(tuple(finite), fine, extent)
-    y_features = (0.0, -thickness_m) if slab_face else (0.0,)
-    y = graded_nodes(y_features, fine, extent)
+    y = graded_nodes(tuple(y_features), fine, extent)
     grid = Grid(x, y)
     eps_cells = np.ones((x.size - 1, y.size - 1))
+    xc = 0.5 * (x[1:] + x[:-1])
+    yc = 0.5 * (y[1:] + y[:-1])
+    inside_board = (xc < slab_x_max_m) if slab_x_max_m is not None else np.ones(xc.size, dtype=bool)
     if thickness_m is not None:
-        yc = 0.5 * (y[1:] + y[:-1])
         in_slab = np.broadcast_to(((yc < 0.0) & (yc > -thickness_m))[None, :], eps_cells.shape)
         if slab_x_max_m is not None:
-            xc = 0.5 * (x[1:] + x[:-1])
-            in_slab = in_slab & (xc < slab_x_max_m)[:, None]
+            in_slab = in_slab & inside_board[:, None]
         eps_cells[in_slab] = eps_r
+    if cover is not None:
+        in_cover = inside_board[:, None] & (
+            (yc > cover.distance_m) & (yc < cover.distance_m + cover.thickness_m))[None, :]
+        eps_cells[in_cover] = cover.eps_r
     return EPS0_F_PER_M * _energy_capacitance(grid, eps_cells, conductors)
 
 
@@ -190,6 +211,7 @@ def capacitance_coplanar_f_per_m(
     eps_r: float,
     thickness_m: float | None,
     slab_x_max_m: float | None = None,
+    cover: Layer | None = None,
 ) -> float:
     """Capacitance per metre (F/m) of coplanar conductors on ``y = 0``, Richardson-extrapolated
     from grids with ``FINE_CELLS_PER_FEATURE / 2`` and ``FINE_CELLS_PER_FEATURE`` cells across
@@ -200,9 +222,10 @@ def capacitance_coplanar_f_per_m(
     ``inf``: the dielectric fills the half-space ``y < 0``.
     With one conductor at 1 V and the rest at 0 V this is its capacitance to them.
     ``slab_x_max_m``: the slab ends there (a board edge; ``None``: laterally infinite).
+    ``cover``: a dielectric layer above the conductors, ending where the slab ends.
     """
-    coarse = _solve(edges_m, conductors, eps_r, thickness_m, FINE_CELLS_PER_FEATURE // 2, slab_x_max_m)
-    fine = _solve(edges_m, conductors, eps_r, thickness_m, FINE_CELLS_PER_FEATURE, slab_x_max_m)
+    coarse = _solve(edges_m, conductors, eps_r, thickness_m, FINE_CELLS_PER_FEATURE // 2, slab_x_max_m, cover)
+    fine = _solve(edges_m, conductors, eps_r, thickness_m, FINE_CELLS_PER_FEATURE, slab_x_max_m, cover)
     return 2.0 * fine - coarse
 
 
@@ -248,6 +271,26 @@ def strip_beside_ground_edge_board_capacitance_f_per_m(
         eps_r,
         thickness_m,
         edge,
+    )
+
+
+@functools.lru_cache(maxsize=CACHE_SIZE)
+def strip_beside_ground_edge_covered_capacitance_f_per_m(
+    width_m: float, gap_m: float, eps_r: float, thickness_m: float, board_gap_m: float | None,
+    cover: Layer,
+) -> float:
+    """Capacitance (F/m) of the strip ``[g, g + w]`` beside a ground half-plane ``x <= 0`` on a
+    slab (``eps_r`` 1: no slab's dielectric) with the dielectric layer ``cover`` above the
+    copper; slab and cover end ``board_gap_m`` beyond the strip's far edge (``None``: laterally
+    infinite)."""
+    edge = None if board_gap_m is None else gap_m + width_m + board_gap_m
+    return capacitance_coplanar_f_per_m(
+        (0.0, gap_m, gap_m + width_m),
+        ((-math.inf, 0.0, 0.0), (gap_m, gap_m + width_m, 1.0)),
+        eps_r,
+        thickness_m,
+        edge,
+        cover,
     )
 
 

@@ -70,7 +70,7 @@ from scipy import optimize
 
 from footgen.constants import C0_M_PER_S, MU0_H_PER_M, PI
 from footgen.errors import SolverError
-from footgen.physics.ifa import PrintedIfa
+from footgen.physics.ifa import Laminate, PrintedIfa
 from footgen.physics import quasistatic2d
 from footgen.physics.lines import (
     eps_eff_strip_beside_ground_edge,
@@ -420,11 +420,22 @@ def line_constants(
     return model(width_m, gap_m, eps_r, thickness_m)
 
 
+def line_laminate(ifa: PrintedIfa) -> Laminate:
+    """The laminate the line sections see: ``ifa.laminate`` (laterally infinite, as this model
+    takes it); with an enclosure wall (``ifa.cover``), the equivalent slab of
+    :mod:`footgen.physics.board_edge` that holds the wall over that laterally infinite laminate."""
+    if ifa.cover is None:
+        return ifa.laminate
+    from footgen.physics.board_edge import equivalent_laminate
+
+    return equivalent_laminate(replace(ifa, board_edge_y_m=None))
+
+
 def _line_at_height(
     ifa: PrintedIfa, height_m: float, length_m: float, options: TlineIfaOptions,
     inductance_factor: float = 1.0,
 ) -> LineSection:
-    lam = ifa.laminate
+    lam = line_laminate(ifa)
     gap = height_m - ifa.trace_width_m / 2.0
     z0, eps_eff = line_constants(
         options.line_model,
@@ -513,9 +524,10 @@ def _electrical_lengths(freq_hz: NDArray, sections, ifa: PrintedIfa, options: Tl
     # beta and the dielectric attenuation both scale with sqrt(L' C')
     root_factor = np.sqrt(np.array([s.inductance_factor for s in sections]))
     beta = 2.0 * PI * f * np.sqrt(eps_eff) / C0_M_PER_S
+    lam = line_laminate(ifa)
     alpha = (
         dielectric_attenuation_np_per_m(
-            f, ifa.laminate.eps_r, eps_eff, ifa.laminate.loss_tangent
+            f, lam.eps_r, eps_eff, lam.loss_tangent
         )
         if options.dielectric_loss
         else 0.0

@@ -169,7 +169,7 @@ def build(spec_path: Path, out_dir: Path, cmd: list[str] | None = None, *, force
     """Run ``footgen build SPEC -o OUT``.  Rule violations (exit 1) are a result, not an error;
     bad input, refused overwrites and other failures raise :class:`FootgenFailed`."""
     spec = read_spec(spec_path)
-    argv = (cmd or find_footgen()) + ["build", str(spec_path), "-o", str(out_dir)]
+    argv = (cmd or find_footgen()) + ["build", str(spec_path), "-o", str(out_dir), "--png"]  # the dialog shows the PNG
     argv += (["--force"] if force else []) + (["--allow-violations"] if allow_violations else [])
     proc = _run(argv)
     if proc.returncode not in (EXIT_OK, EXIT_RULES):

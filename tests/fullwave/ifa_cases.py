@@ -10,7 +10,7 @@ import json
 from pathlib import Path
 from typing import Any
 
-from footgen.physics.ifa import GroundPlane, Laminate, PrintedIfa
+from footgen.physics.ifa import Cover, GroundPlane, Laminate, PrintedIfa
 
 HERE = Path(__file__).resolve().parent
 CASES_PATH = HERE / "cases.json"
@@ -67,6 +67,11 @@ def case_to_ifa(case: dict[str, Any]) -> PrintedIfa:
                         + 0.5 * case["trace_width_mm"] + case["board_margin_mm"]) * MM_TO_M,
         second_arm_path_m=(tuple((x * MM_TO_M, y * MM_TO_M) for x, y in case["second_arm_path_mm"])
                            if case.get("second_arm_path_mm") else None),
+        cover=None if "cover" not in case else Cover(
+            eps_r=case["cover"]["eps_r"],
+            thickness_m=case["cover"]["thickness_mm"] * MM_TO_M,
+            distance_m=case["cover"]["distance_mm"] * MM_TO_M,
+        ),
     )
 
 

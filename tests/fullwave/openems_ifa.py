@@ -13,6 +13,9 @@ Model (all copper is zero-thickness PEC on the laminate's top face, z = 0):
   reaches back over the short leg's outer edge; the copper ends at the open end's centreline point;
 - laminate slab (eps_r, loss tangent as conductivity at the design frequency) from z = -thickness
   to 0 under the ground and the clearance, ending ``board_margin_mm`` beyond the antenna copper;
+- optional ``cover`` (an enclosure wall): a lossless dielectric slab (``eps_r``) from
+  z = ``distance_mm`` to ``distance_mm + thickness_mm`` above the copper side, laterally the laminate's
+  rectangle;
 - a 50-ohm lumped port across the gap between the ground edge (y = 0) and the feed leg's bottom,
   excitation along y (in the board plane);
 - PML_8 on all six faces behind an air margin scaled with the wavelength; a graded rectilinear
@@ -235,6 +238,15 @@ def board_extent_m(ifa: PrintedIfa, margin_m: float) -> tuple[float, float, floa
     return x0, -g.length_m, x1, y1
 
 
+def cover_extent_m(case: dict[str, Any]) -> tuple[float, float, float] | None:
+    """(eps_r, z_bottom, z_top) of the case's enclosure wall above the copper, or None."""
+    cover = case.get("cover")
+    if cover is None:
+        return None
+    gap = cover["distance_mm"] * 1e-3
+    return float(cover["eps_r"]), gap, gap + cover["thickness_mm"] * 1e-3
+
+
 def build_mesh(ifa: PrintedIfa, case: dict[str, Any], level: str) -> dict[str, np.ndarray]:
     """Graded x, y, z mesh lines (m) for one case at mesh ``level``."""
     f_design = case["f_design_mhz"] * 1e6
@@ -263,7 +275,17 @@ def build_mesh(ifa: PrintedIfa, case: dict[str, Any], level: str) -> dict[str, n
     mesh_y = graded_lines(yp, [(by0, by1, board_max)], by0 - pad, by1 + pad, air_max)
     lam_cell = min(t / MIN_LAMINATE_CELLS, board_max)
     zp = [(0.0, fine), (-t, min(edge, lam_cell))]
-    mesh_z = graded_lines(zp, [(-t, 0.0, lam_cell)], -t - pad, pad, air_max)
+    z_intervals = [(-t, 0.0, lam_cell)]
+    z_top = 0.0
+    cover = cover_extent_m(case)
+    if cover is not None:
+        eps_c, z_lo, z_hi = cover
+        cover_max = lam_min / (CELLS_PER_WAVELENGTH * math.sqrt(eps_c))
+        cover_cell = min((z_hi - z_lo) / MIN_LAMINATE_CELLS, cover_max)
+        zp += [(z_lo, min(edge, cover_cell)), (z_hi, min(edge, cover_cell))]
+        z_intervals.append((z_lo, z_hi, cover_cell))
+        z_top = z_hi
+    mesh_z = graded_lines(zp, z_intervals, -t - pad, z_top + pad, air_max)
     return {"x": mesh_x, "y": mesh_y, "z": mesh_z, "fine_m": np.array(fine),
             "air_margin_m": np.array(air)}
 
@@ -362,6 +384,11 @@ def solve_case(case: dict[str, Any], level: str, keep: bool = False,
     substrate = csx.AddMaterial("laminate", epsilon=lam.eps_r, kappa=kappa)
     bx0, by0, bx1, by1 = board_extent_m(ifa, case["board_margin_mm"] * 1e-3)
     substrate.AddBox([bx0, by0, -lam.thickness_m], [bx1, by1, 0.0], priority=0)
+    cover = cover_extent_m(case)
+    if cover is not None:
+        eps_c, z_lo, z_hi = cover
+        wall = csx.AddMaterial("cover", epsilon=eps_c)
+        wall.AddBox([bx0, by0, z_lo], [bx1, by1, z_hi], priority=0)
     if radiation_freqs_hz:
         copper = csx.AddConductingSheet("copper", conductivity=COPPER_CONDUCTIVITY_S_PER_M,
                                         thickness=lam.copper_thickness_m)
@@ -452,6 +479,9 @@ def solve_case(case: dict[str, Any], level: str, keep: bool = False,
             "copper": "PEC sheets of zero thickness at z=0 (copper_thickness not modelled)",
             "open_end": "copper ends at the arm centreline's last point",
             "threads": NUM_THREADS,
+            "cover": (None if cover is None else
+                      f"lossless slab eps_r {cover[0]:g}, z {cover[1] * 1e3:g} to "
+                      f"{cover[2] * 1e3:g} mm, laterally the laminate's rectangle"),
         },
         "metadata": {
             "openems_package_version": openems_package_version(),
