@@ -150,6 +150,11 @@ def report_markdown(result: BuildResult) -> str:
         f"| sizing method | {sizing.method} |",
         "",
     ]
+    if spec.second_arm is not None:
+        from footgen.bandfigures import second_arm_rows
+
+        at = lines.index(f"| trace / short width | {d['trace_width_mm']:.3f} / {d['short_width_mm']:.3f} mm |")
+        lines[at:at] = second_arm_rows(spec, d)
     lines += [f"- {note}" for note in sizing.notes]
     lines += ["", calibration_text(spec)]
     pads = assembly_lines(spec.raw.get("matching_network"))

@@ -63,13 +63,22 @@ def retune_cmd(spec: Path, measured: Path, output: Path, measured_date: str | No
     old = load_spec(spec)
     check_output(old, output, input_path=spec, force=force)
     measurement = read_s11(measured)
-    result = retune(old, measurement, model=_model(model), f_target_hz=None if target_mhz is None else target_mhz * 1e6,
-                    measured_date=measured_date, progress=_progress)
-    write_retuned_spec(result, output, force=force, input_path=spec)
-    click.echo(f"wrote {output} (revision {result.new_spec.revision}): {result.history_note}")
-    click.echo(result.calibration.line())
-    click.echo(f"calibrated model of revision {result.new_spec.revision}: resonance {result.predicted_freq_hz / 1e6:.2f} MHz, "
-               f"R {result.predicted_r_ohm:.1f} ohm")
+    if old.second_arm is not None:  # two bands: each arm trimmed by its own band's measurement
+        from footgen.retune_dual import retune_dual
+
+        result = retune_dual(old, measurement, model=_model(model), progress=_progress)
+        write_retuned_spec(result, output, force=force, input_path=spec)
+        click.echo(f"wrote {output} (revision {result.new_spec.revision}): {result.history_note}")
+        for line in result.lines():
+            click.echo(line)
+    else:
+        result = retune(old, measurement, model=_model(model), f_target_hz=None if target_mhz is None else target_mhz * 1e6,
+                        measured_date=measured_date, progress=_progress)
+        write_retuned_spec(result, output, force=force, input_path=spec)
+        click.echo(f"wrote {output} (revision {result.new_spec.revision}): {result.history_note}")
+        click.echo(result.calibration.line())
+        click.echo(f"calibrated model of revision {result.new_spec.revision}: resonance {result.predicted_freq_hz / 1e6:.2f} MHz, "
+                   f"R {result.predicted_r_ohm:.1f} ohm")
     for note in result.notes:
         click.echo(f"note: {note}", err=True)
     if build_dir is not None:

@@ -199,7 +199,8 @@ def s11_figure(data: ReportData):
                                                      "label": f"{data.matched_on} with match ({best.label})"}))
     marked = 2 if data.measured is not None and data.corrected_s11 is not None else (1 if data.measured is not None else 0)
     title = f"{data.spec.name} revision {data.spec.revision}: S11 against 50 ohm (markers on the {curves[marked][2]['label'].split(' (')[0]} curve)"
-    return plot(title, (data.spec.target.low_hz, data.spec.target.high_hz), curves, marked=marked)
+    more = tuple((t.low_hz, t.high_hz) for t in data.spec.targets[1:])  # a dual-band antenna's second band
+    return plot(title, (data.spec.target.low_hz, data.spec.target.high_hz), curves, marked=marked, more_bands_hz=more)
 
 
 def smith_figure(data: ReportData):
@@ -247,6 +248,10 @@ def markdown(data: ReportData, images: dict[str, str], diff_md: str | None = Non
               f"| feed tap (feed-to-short spacing) | {d['feed_short_spacing_mm']:.3f} mm |",
               f"| copper area | {d['copper_area_mm2']:.2f} mm^2 |",
               f"| sizing | {sz.method} |", ""]
+    if spec.second_arm is not None:
+        from footgen.bandfigures import second_arm_rows
+
+        lines[-3:-3] = second_arm_rows(spec, d)
     lines += ["## Rule check", ""]
     lines += [f"- {v.line()}" for v in data.violations] or [f"No violations against fab profile `{spec.fab.name}`."]
     lines += ["", "## S11", "", f"![S11]({images['s11']})", "", data.calibration_line, ""]
@@ -269,6 +274,14 @@ def markdown(data: ReportData, images: dict[str, str], diff_md: str | None = Non
         lines.append(f"| measured | {meas.freq_hz / 1e6:.2f} MHz | {meas.s11_db:.1f} dB | {_z(meas.zin_ohm)} | "
                      f"{_band_text(data.measured.freq_hz, data.measured.s11, f0)} |")
         lines += ["", f"Measured / bare-model resonance: {meas.freq_hz / f_pred:.4f}."]
+    if spec.second_arm is not None:
+        from footgen.bandfigures import band_table
+
+        s11 = np.asarray(data.predicted_s11)
+        lines += [""] + band_table(spec, data.freq_hz, 50.0 * (1 + s11) / (1 - s11), "predicted, bare model")
+        if data.measured is not None:
+            m = np.asarray(data.measured.s11)
+            lines += band_table(spec, data.measured.freq_hz, 50.0 * (1 + m) / (1 - m), "measured")
     if data.radiation is not None:
         lines += [""] + [f"Predicted {line}." for line in data.radiation.lines()]
     best = plan.best

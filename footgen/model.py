@@ -41,6 +41,8 @@ def printed_ifa(spec: Spec, copper: IfaCopper) -> PrintedIfa:
             copper_thickness_m=spec.laminate.copper_thickness_mm * MM,
         ),
         board_edge_y_m=(spec.clearance.depth_mm + spec.clearance.edge_distance_mm) * MM,
+        second_arm_path_m=(tuple((x * MM, y * MM) for x, y in _physics_path(copper.second_arm_path, spec.trace_width_mm))
+                           if copper.second_arm_path else None),
         cover=None if spec.enclosure is None else cover(spec.enclosure),
     )
 

@@ -69,9 +69,12 @@ def s11_markers(freq_hz: np.ndarray, s11: np.ndarray, band_hz: tuple[float, floa
 
 
 def s11_figure(title: str, band_hz: tuple[float, float], curves: list[tuple[np.ndarray, np.ndarray, dict]],
-               marked: int = 0, figsize: tuple[float, float] = (10.0, 4.8)) -> Figure:
+               marked: int = 0, figsize: tuple[float, float] = (10.0, 4.8),
+               more_bands_hz: tuple[tuple[float, float], ...] = ()) -> Figure:
     """|S11| in dB: the full sweep on the left, the target band zoomed on the right, the band
     shaded in both; markers (resonance, -10 dB edges, worst in band) on curve ``marked``.
+    ``more_bands_hz``: further target bands (a dual-band antenna's), shaded on the full sweep,
+    each with its own resonance and worst in-band markers.
     ``curves`` holds (frequency Hz, complex S11, matplotlib line style) tuples."""
     fig = Figure(figsize=figsize)
     ax, zoom = fig.subplots(1, 2, gridspec_kw={"width_ratios": [3, 2]})
@@ -79,6 +82,18 @@ def s11_figure(title: str, band_hz: tuple[float, float], curves: list[tuple[np.n
     f_m, s_m, _ = curves[marked]
     markers = s11_markers(f_m, s_m, band_hz)
     curves = [(np.asarray(f, float), touchstone.s11_db(s), style) for f, s, style in curves]
+    if more_bands_hz:  # a dual-band sweep: each band's markers from its own part of the sweep
+        f_arr, s_arr = np.asarray(f_m, float), np.asarray(s_m)
+        split = [band_hz] + list(more_bands_hz)
+        markers = []
+        for k, (b_lo, b_hi) in enumerate(split):
+            lo_cut = 0.0 if k == 0 else np.sqrt(split[k - 1][1] * b_lo)
+            hi_cut = np.inf if k == len(split) - 1 else np.sqrt(b_hi * split[k + 1][0])
+            part = (f_arr >= lo_cut) & (f_arr <= hi_cut)
+            if part.sum() > 2:
+                markers += s11_markers(f_arr[part], s_arr[part], (b_lo, b_hi))
+            if k:
+                ax.axvspan(b_lo / 1e6, b_hi / 1e6, color="#fefcbf", alpha=0.9, label=f"target band {k + 1}", lw=0)
     for panel in (ax, zoom):
         panel.axvspan(lo, hi, color="#c6f6d5", alpha=0.7, label="target band", lw=0)
         panel.axhline(MATCH_LEVEL_DB, color="#718096", lw=0.7, ls="--")

@@ -29,6 +29,7 @@ from footgen.sizing import DEFAULT_MODEL, MODELS, PREDICTION_HALF_SPAN, SEARCH_M
 from footgen.spec import Spec
 
 if TYPE_CHECKING:
+    from footgen.bandfigures import BandFigures
     from footgen.radiation import RadiationSummary
 
 #: Number of sweep points over the band centre +- PREDICTION_HALF_SPAN.
@@ -64,7 +65,12 @@ def copper_ifa(spec: Spec, numbers: Sizing) -> PrintedIfa:
 
 
 def sweep_hz(spec: Spec) -> np.ndarray:
-    """The prediction sweep: band centre +- PREDICTION_HALF_SPAN in SWEEP_POINTS points."""
+    """The prediction sweep: band centre +- PREDICTION_HALF_SPAN in SWEEP_POINTS points (a
+    dual-band spec: one sweep over both bands, :func:`footgen.bandfigures.dual_sweep_hz`)."""
+    if spec.second_arm is not None:
+        from footgen.bandfigures import dual_sweep_hz
+
+        return dual_sweep_hz(spec)
     f0 = spec.target.center_hz
     return np.linspace((1 - PREDICTION_HALF_SPAN) * f0, (1 + PREDICTION_HALF_SPAN) * f0, SWEEP_POINTS)
 
@@ -176,6 +182,14 @@ class Prediction:
     def band_10db_hz(self) -> tuple[float, float] | None:
         return bandwidth_10db(self.freq_hz, self.s11)
 
+    def bands(self) -> list["BandFigures"]:
+        """Each band's figures (dual-band specs; empty for one band)."""
+        if self.spec.second_arm is None:
+            return []
+        from footgen.bandfigures import band_figures
+
+        return band_figures(self.spec, self.freq_hz, self.zin_ohm)
+
     def zin_at(self, f_hz: float) -> complex:
         return complex(np.interp(f_hz, self.freq_hz, self.zin_ohm.real) + 1j * np.interp(f_hz, self.freq_hz, self.zin_ohm.imag))
 
@@ -208,13 +222,18 @@ class Prediction:
             "zin_at_center_ohm": [round(z0.real, 3), round(z0.imag, 3)],
             "band_10db_mhz": None if band is None else [round(band[0] / 1e6, 3), round(band[1] / 1e6, 3)],
             "radiation": None if self.radiation is None else self.radiation.as_dict(),
-        }
+        } | ({"bands": [b.as_dict() for b in self.bands()]} if self.spec.second_arm is not None else {})
 
     def json_bytes(self) -> bytes:
         """:meth:`summary_dict` as JSON bytes (sorted keys; same prediction, same bytes)."""
         return (json.dumps(self.summary_dict(), indent=2, sort_keys=True) + "\n").encode("utf-8")
 
     def summary_lines(self) -> list[str]:
+        if self.spec.second_arm is not None:
+            lines = [f"model: {self.model_label}", self.calibration_line()]
+            for k, band in enumerate(self.bands()):
+                lines += band.lines(k)
+            return lines + (self.radiation.lines() if self.radiation is not None else []) + [SAFETY_NOTE]
         f0 = self.spec.target.center_hz
         z0 = self.zin_at(f0)
         res = self.resonance
@@ -274,7 +293,8 @@ def plot_s11(prediction: Prediction, measured: tuple[np.ndarray, np.ndarray] | N
     if measured is not None:
         curves.append((measured[0], measured[1], {"color": "#c05621", "lw": 1.2, "label": "measured"}))
     title = f"{spec.name}: predicted S11 ({prediction.model_label.split(' (')[0]})"
-    return figure_bytes(s11_figure(title, (spec.target.low_hz, spec.target.high_hz), curves))
+    more = tuple((t.low_hz, t.high_hz) for t in spec.targets[1:])
+    return figure_bytes(s11_figure(title, (spec.target.low_hz, spec.target.high_hz), curves, more_bands_hz=more))
 
 
 def touchstone_text(prediction: Prediction) -> bytes:

@@ -42,6 +42,12 @@ DIM_ROWS: tuple[tuple[str, str, str], ...] = (
     ("copper_area_mm2", "copper area", "mm^2"),
 )
 
+#: A dual-band antenna's second arm (compared when either layout has one; 0 for none).
+SECOND_ARM_ROWS: tuple[tuple[str, str, str], ...] = (
+    ("second_arm_length_mm", "second arm length", "mm"),
+    ("second_arm_height_mm", "second arm height", "mm"),
+)
+
 #: Dimensions that are counts (shown without decimals).
 COUNT_DIMS = frozenset({"meander_turns"})
 
@@ -137,6 +143,8 @@ def spec_changes(old: dict, new: dict) -> tuple[Row, ...]:
 def diff_layouts(old: Layout, new: Layout, old_label: str, new_label: str, changes: tuple[Row, ...] = ()) -> RevisionDiff:
     kind = {key: int if key in COUNT_DIMS else float for key, _, _ in DIM_ROWS}
     rows = [Row(label, kind[key](old.dims[key]), kind[key](new.dims[key]), unit) for key, label, unit in DIM_ROWS]
+    rows += [Row(label, float(old.dims.get(key, 0.0)), float(new.dims.get(key, 0.0)), unit)
+             for key, label, unit in SECOND_ARM_ROWS if key in old.dims or key in new.dims]
     rows += _extent_rows(old.antenna, new.antenna)
     return RevisionDiff(old_label, new_label, tuple(rows), changes, old.antenna, new.antenna)
 

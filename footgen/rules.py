@@ -130,8 +130,11 @@ def rule_turn_gap(layout: Layout, fab: FabLimits) -> list[Violation]:
 
 
 def _joined_by_design(ra: str, ia: int, rb: str, ib: int) -> bool:
-    """Legs join the arm's first (straight) segment; legs never join each other."""
+    """Legs join the arm's first (straight) segment; legs never join each other; a dual-band
+    IFA's second arm joins the feed leg with its first segment and never touches the main arm."""
     roles = {ra: ia, rb: ib}
+    if "second_arm" in roles and len(roles) == 2:
+        return "feed_leg" in roles and roles["second_arm"] == 0
     if "arm" in roles and len(roles) == 2:
         return roles["arm"] == 0
     return False

@@ -379,6 +379,8 @@ def size(spec: Spec, model: str = DEFAULT_MODEL) -> Sizing:
 
     A sizing finished earlier for the same spec, model and footgen code comes from
     :mod:`footgen.sizing_cache` (an explicit geometry is taken as given without it)."""
+    if spec.second_arm is not None:
+        return _size_dual_cached(spec, model)
     if spec.arm.length_mm is not None and spec.arm.feed_short_spacing_mm is not None:
         return _size_with(spec, START_MODEL)
     key = sizing_cache.spec_key(spec)
@@ -391,6 +393,27 @@ def size(spec: Spec, model: str = DEFAULT_MODEL) -> Sizing:
     if size_check is not None:  # a model too big to solve is refused before the search, not after
         size_check(printed_ifa(spec, generate_copper(spec, start)), spec.target.center_hz * (1.0 + PREDICTION_HALF_SPAN))
     result = start if model == START_MODEL else refine(spec, start, model)
+    sizing_cache.store(key, model, result)
+    return result
+
+
+def _size_dual_cached(spec: Spec, model: str) -> Sizing:
+    """A dual-band spec's sizing (:mod:`footgen.sizing_dual`), through the sizing cache; every
+    length, height and the tap given: taken as given."""
+    from footgen.geometry.dualband import default_heights_mm
+    from footgen.sizing_dual import size_dual
+
+    second = spec.second_arm
+    if None not in (spec.arm.length_mm, spec.arm.feed_short_spacing_mm, second.length_mm):
+        h1, h2 = default_heights_mm(spec, max_arm_height_mm(spec))
+        return Sizing(spec.arm.length_mm, h1, spec.arm.feed_short_spacing_mm, "as given",
+                      ("both arm lengths and the feed tap given in the spec: kept as given",),
+                      second_arm_length_mm=second.length_mm, second_arm_height_mm=h2)
+    key = sizing_cache.spec_key(spec)
+    cached = sizing_cache.load(key, model)
+    if cached is not None:
+        return cached
+    result = size_dual(spec, model)
     sizing_cache.store(key, model, result)
     return result
 

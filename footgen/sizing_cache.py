@@ -70,7 +70,8 @@ def _record(sizing: Sizing) -> dict:
         "method": sizing.method,
         "notes": list(sizing.notes),
         "meander_pitch_mm": sizing.meander_pitch_mm,
-    }
+    } | ({"second_arm_length_mm": sizing.second_arm_length_mm, "second_arm_height_mm": sizing.second_arm_height_mm}
+         if sizing.second_arm_length_mm is not None else {})
 
 
 def load(spec_id: str, model: str) -> Sizing | None:
@@ -87,9 +88,15 @@ def load(spec_id: str, model: str) -> Sizing | None:
         pitch = r["meander_pitch_mm"]
         return Sizing(float(r["arm_length_mm"]), float(r["height_mm"]), float(r["feed_short_spacing_mm"]),
                       str(r["method"]), tuple(str(n) for n in r["notes"]),
-                      meander_pitch_mm=None if pitch is None else float(pitch))
+                      meander_pitch_mm=None if pitch is None else float(pitch),
+                      second_arm_length_mm=_opt_float(r.get("second_arm_length_mm")),
+                      second_arm_height_mm=_opt_float(r.get("second_arm_height_mm")))
     except (OSError, ValueError, KeyError, TypeError, AttributeError):
         return None
+
+
+def _opt_float(value: object) -> float | None:
+    return None if value is None else float(value)  # type: ignore[arg-type]
 
 
 def store(spec_id: str, model: str, sizing: Sizing) -> None:

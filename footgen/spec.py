@@ -112,6 +112,19 @@ class ArmSpec:
 
 
 @dataclass(frozen=True)
+class SecondArmSpec:
+    """A dual-band IFA's second arm (spec section ``second_arm``): its band, where it runs
+    (``under`` or ``above`` the main arm), its shape, and the length and height if fixed."""
+
+    target: Target
+    position: str  # "under" | "above"
+    kind: str  # "straight" | "meandered"
+    meander_height_mm: float | None = None
+    length_mm: float | None = None
+    height_mm: float | None = None
+
+
+@dataclass(frozen=True)
 class FeedSpec:
     pad_width_mm: float
     pad_length_mm: float
@@ -182,6 +195,13 @@ class Spec:
     fab: FabLimits
     output: OutputSpec
     raw: dict = field(repr=False, compare=False, hash=False)
+    #: The second arm of a dual-band IFA (``None``: one arm, one band).
+    second_arm: SecondArmSpec | None = None
+
+    @property
+    def targets(self) -> tuple[Target, ...]:
+        """The bands the antenna serves: the main arm's, then the second arm's (if any)."""
+        return (self.target,) if self.second_arm is None else (self.target, self.second_arm.target)
     #: The enclosure wall over the antenna; ``None``: open air above the board.
     enclosure: EnclosureSpec | None = None
 
@@ -424,6 +444,7 @@ def parse_spec(data: object) -> Spec:
             drawing_png=bool(out.get("drawing_png", False)),
         ),
         raw=data,
+        second_arm=_second_arm(data["second_arm"]) if "second_arm" in data else None,
         enclosure=_enclosure(data.get("enclosure")),
     )
     _cross_checks(spec)
@@ -468,6 +489,19 @@ def _target(data: dict) -> Target:
     return Target(low, high, f"{data['low_mhz']}-{data['high_mhz']} MHz")
 
 
+def _second_arm(data: dict) -> SecondArmSpec:
+    try:
+        target = _target(data["target"])
+    except SpecError as exc:  # the same checks as the main target, said at this section's path
+        raise SpecError(exc.path.replace("$.target", "$.second_arm.target", 1), exc.value, exc.fix) from None
+    return SecondArmSpec(
+        target=target,
+        position=data.get("position", "under"),
+        kind=data.get("kind", "straight"),
+        meander_height_mm=_opt(data.get("meander_height_mm")),
+        length_mm=_opt(data.get("length_mm")),
+        height_mm=_opt(data.get("height_mm")),
+    )
 def _enclosure(data: dict | None) -> EnclosureSpec | None:
     if data is None:
         return None
@@ -696,6 +730,41 @@ def _segment_distance(a: tuple[tuple[float, float], tuple[float, float]], b: tup
     return float(LineString(a).distance(LineString(b)))
 
 
+#: The second band must lie at least this factor above the main band (centres): the arms of a
+#: dual-band IFA are told apart by length, and bands closer than this want one wider arm or a
+#: matching network (common practice, no source).
+MIN_SECOND_BAND_RATIO = 1.6
+
+
+def _check_second_arm(spec: Spec) -> None:
+    second = spec.second_arm
+    if second is None:
+        return
+    ratio = second.target.center_hz / spec.target.center_hz
+    if ratio < MIN_SECOND_BAND_RATIO:
+        raise SpecError(
+            "$.second_arm.target", second.target.label,
+            f"the second band must lie at least {MIN_SECOND_BAND_RATIO:g} times above the main band "
+            f"({spec.target.center_hz / 1e6:.1f} MHz, so above {MIN_SECOND_BAND_RATIO * spec.target.center_hz / 1e6:.0f} MHz); "
+            "put the lower band in target",
+        )
+    from footgen.geometry.dualband import arm_gap_min_mm  # imports this module: only when needed
+
+    gap = arm_gap_min_mm(spec)
+    w, cl, main_h = spec.trace_width_mm, spec.clearance, spec.arm.height_mm
+    if second.height_mm is not None and main_h is not None and abs(second.height_mm - main_h) + FAB_SLACK_MM < gap + w:
+        raise SpecError(
+            "$.second_arm.height_mm", second.height_mm,
+            f"the arms' copper must stay {gap:g} mm apart (copper clearance and trace width); "
+            f"at most {main_h - gap - w:.3f} under or at least {main_h + gap + w:.3f} above the main arm ({main_h:g} mm)",
+        )
+    if second.height_mm is not None and second.height_mm + w / 2 > cl.depth_mm:
+        raise SpecError("$.second_arm.height_mm", second.height_mm,
+                        f"arm copper would leave the clearance area (depth {cl.depth_mm:g} mm); at most {cl.depth_mm - w / 2:g}")
+    if second.meander_height_mm is not None and second.kind != "meandered":
+        raise SpecError("$.second_arm.meander_height_mm", second.meander_height_mm, 'applies to kind "meandered" only; remove it or set kind')
+
+
 #: The cross-field checks, run in this order by :func:`_cross_checks`.
 #: The enclosure wall enters the models quasi-statically (footgen.physics.board_edge), which
 #: holds while the wall is close to the copper on the scale of the wavelength: its distance at
@@ -720,4 +789,5 @@ CROSS_CHECKS: dict[str, Callable[[Spec], None]] = {
     "vias": _check_vias,
     "meander": _check_meander,
     "meander_start": _check_meander_start,
+    "second_arm": _check_second_arm,
 }

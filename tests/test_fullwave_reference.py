@@ -60,14 +60,16 @@ def _curve(result: dict) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
 
 
 def test_case_set_is_as_specified() -> None:
-    """At least 6 cases, >= 4 straight and >= 2 meandered; development and validation roles only,
-    at least 4 validation cases (held out) and at least 2 meandered among them."""
+    """At least 6 single-band cases, >= 4 straight and >= 2 meandered; development and
+    validation roles (plus the dual-band references, tests/test_fullwave_dualband.py), at least
+    4 validation cases (held out) and at least 2 meandered among them."""
     roles = [c["role"] for c in CASES]
-    assert set(roles) == {"development", "validation"}
+    assert {"development", "validation"} <= set(roles) <= {"development", "validation", "dualband"}
     assert roles.count("validation") >= 4
     assert sum(len(c["arm_path_mm"]) > 2 for c in VALIDATION) >= 2
-    n_meander = sum(len(c["arm_path_mm"]) > 2 for c in CASES)
-    assert len(CASES) >= 6 and n_meander >= 2 and len(CASES) - n_meander >= 4
+    single = [c for c in CASES if c["role"] != "dualband"]
+    n_meander = sum(len(c["arm_path_mm"]) > 2 for c in single)
+    assert len(single) >= 6 and n_meander >= 2 and len(single) - n_meander >= 4
     assert len(set(CASE_IDS)) == len(CASE_IDS)
 
 
@@ -133,8 +135,15 @@ def test_openems_copper_matches_centreline_model(case: dict) -> None:
     start_cap = box(cap_x[0], h - 0.5 * w, cap_x[1], h + 0.5 * w)
     short_leg = box(ifa.short_x_m - 0.5 * ws, 0.0, ifa.short_x_m + 0.5 * ws, h)
     y_feed = ifa_cases.arm_y_above_x_m(ifa, ifa.feed_x_m)
+    parts = [arm, start_cap, short_leg]
+    if ifa.second_arm_path_m:  # dual-band: the second arm off the feed leg, which runs up to it
+        (sx0, sy0), (sx1, sy1) = ifa.second_arm_path_m[:2]
+        back = (0.5 * w * np.sign(sx0 - sx1), 0.5 * w * np.sign(sy0 - sy1))  # reaches across the leg
+        path = [(sx0 + back[0], sy0 + back[1])] + list(ifa.second_arm_path_m[1:])
+        parts.append(LineString(path).buffer(0.5 * w, cap_style="flat", join_style="mitre"))
+        y_feed = max(y_feed, ifa.second_arm_path_m[0][1])
     feed_leg = box(ifa.feed_x_m - 0.5 * w, ifa.port_gap_m, ifa.feed_x_m + 0.5 * w, y_feed)
-    expected = unary_union([arm, start_cap, short_leg, feed_leg])
+    expected = unary_union(parts + [feed_leg])
     built = unary_union([box(*b) for b in driver.copper_boxes_m(ifa)])
     assert built.symmetric_difference(expected).area <= 1e-6 * expected.area
     # the antenna stays in the clearance, inside the laminate, off the ground plane
@@ -164,7 +173,7 @@ def test_openems_mesh_resolves_the_model(case: dict, level: str) -> None:
     z = mesh["z"]
     assert np.min(np.abs(z)) <= 1e-12 and np.min(np.abs(z + t)) <= 1e-12
     assert np.count_nonzero((z > -t - 1e-12) & (z < 1e-12)) - 1 >= driver.MIN_LAMINATE_CELLS
-    f_max = case["f_design_mhz"] * 1e6 * (1 + driver.EXCITATION_FC_FRACTION)
+    f_max = sum(driver.excitation_hz(case))  # design frequency x (1 + fc fraction), or a dual-band sweep's top
     lam_min = driver.C0_M_PER_S / f_max
     for axis in "xyz":
         assert np.max(np.diff(mesh[axis])) <= lam_min / 20 * (1 + 1e-9)

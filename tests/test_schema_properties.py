@@ -27,6 +27,11 @@ HANG_S = 400.0
 
 
 def _strategy(schema: dict, path: str = "$") -> st.SearchStrategy:
+    if "$ref" in schema:  # a local reference ("#/properties/target"): the referenced schema
+        node = load_schema()
+        for key in schema["$ref"].lstrip("#/").split("/"):
+            node = node[key]
+        return _strategy(node, path)
     if "oneOf" in schema:
         return st.one_of([_strategy({**branch, **{k: v for k, v in schema.items() if k not in ("oneOf", "description")}}, path) for branch in schema["oneOf"]])
     if "const" in schema:

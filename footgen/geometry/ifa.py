@@ -49,6 +49,9 @@ class IfaCopper:
     height_mm: float
     meander_count: int
     meander_pitch_mm: float | None = None
+    #: A dual-band IFA's second arm: centreline from its junction on the feed leg (x = feed) to
+    #: its open end; None for a single-band IFA.
+    second_arm_path: tuple[Point, ...] | None = None
 
     @cached_property
     def polygon(self) -> Polygon:

@@ -127,6 +127,9 @@ class Sizing:
     #: A meander pitch fixed by the sizing (a fitted meander's pitch, frozen while refining so
     #: the copper changes continuously with the arm length); None: from the spec or fitted.
     meander_pitch_mm: float | None = None
+    #: A dual-band IFA's second arm: centreline length from the feed leg and height (None: none).
+    second_arm_length_mm: float | None = None
+    second_arm_height_mm: float | None = None
 
 
 # ---------------------------------------------------------------------------------------------
@@ -232,6 +235,10 @@ def generate_copper(spec: Spec, sizing: Sizing) -> IfaCopper:
             f"a straight arm of {sizing.arm_length_mm:.2f} mm needs a clearance {spec.clearance.width_mm + end_x - limit:.2f} mm wide; "
             f"at most {fits:.2f} mm fits: widen the clearance or use style meandered",
         )
+    if spec.second_arm is not None:
+        from footgen.geometry.dualband import with_second_arm
+
+        copper = with_second_arm(spec, copper, sizing)
     return copper
 
 
@@ -350,6 +357,11 @@ def canonical_layout(spec: Spec, sizing: Sizing) -> Layout:
         "via_drill_mm": short.via_drill_mm,
         "meander_pitch_mm": copper.meander_pitch_mm or 0.0,
     }
+    if copper.second_arm_path:
+        from footgen.geometry.ifa import path_length
+
+        dims["second_arm_length_mm"] = path_length(copper.second_arm_path)
+        dims["second_arm_height_mm"] = copper.second_arm_path[0][1]
     return Layout(
         copper=copper,
         antenna=antenna,
@@ -459,6 +471,7 @@ def transform_layout(layout: Layout, matrix: tuple[int, int, int, int], grid_mm:
         height_mm=copper.height_mm,
         meander_count=copper.meander_count,
         meander_pitch_mm=copper.meander_pitch_mm,
+        second_arm_path=tuple(pt(p) for p in copper.second_arm_path) if copper.second_arm_path else None,
     )
     pads = tuple(
         replace(

@@ -120,9 +120,13 @@ def _rounded(length_m: float) -> float:
 
 
 def _horizontal_pieces(ifa: PrintedIfa) -> dict[float, float]:
-    """Centreline height -> length of the arm's horizontal pieces clear of the ground edge."""
+    """Centreline height -> length of the arms' horizontal pieces clear of the ground edge (a
+    dual-band IFA's second arm sits beside the same edge)."""
     pieces: dict[float, float] = {}
-    for (x0, y0), (x1, y1) in zip(ifa.arm_path_m, ifa.arm_path_m[1:]):
+    segments = list(zip(ifa.arm_path_m, ifa.arm_path_m[1:]))
+    if ifa.second_arm_path_m:
+        segments += list(zip(ifa.second_arm_path_m, ifa.second_arm_path_m[1:]))
+    for (x0, y0), (x1, y1) in segments:
         # a piece whose copper reaches the ground edge (a wide trace low in a meander) has no
         # strip-beside-edge cross-section: it is left out of the mean
         if abs(y1 - y0) < HORIZONTAL_TOL_M and y0 - 0.5 * ifa.trace_width_m > MIN_GAP_M:

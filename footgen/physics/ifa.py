@@ -7,6 +7,13 @@ centreline ``arm_path_m`` starts above the short leg, passes above the feed leg 
 open end (it may be meandered: any polyline of axis-parallel segments).  The geometry layer builds
 this from a layout; physics never sees millimetres.  The laminate lies under the ground and the
 clearance and ends at the board edge ``y = board_edge_y_m`` beyond the antenna (if given).
+
+A dual-band IFA has a second, shorter arm ``second_arm_path_m`` that branches off the feed leg:
+its first vertex lies on the feed leg (``x = feed_x_m``) at its own height, below the main arm or
+above it (then the feed leg runs on up past the main arm to meet it), and it runs the same way as
+the main arm.  The main arm (the one joined to the short) sets the lower resonance, the second
+arm the upper one; both share the feed and the short.
+
 An enclosure wall (``cover``, if given) is a dielectric layer parallel to the board over the
 copper side, as far from the copper as ``Cover.distance_m``; laterally it covers the board.
 """
@@ -66,6 +73,8 @@ class PrintedIfa:
     #: The board edge beyond the antenna (the laminate ends at ``y = board_edge_y_m``); ``None``:
     #: the laminate reaches far beyond the copper.  See :mod:`footgen.physics.board_edge`.
     board_edge_y_m: float | None = None
+    #: Centreline of a second arm branching off the feed leg (dual-band); ``None``: one arm.
+    second_arm_path_m: tuple[tuple[float, float], ...] | None = None
     #: The enclosure wall over the copper side; ``None``: air above the board.  It enters the
     #: models through the equivalent slab of :mod:`footgen.physics.board_edge`.
     cover: Cover | None = None
@@ -82,6 +91,17 @@ class PrintedIfa:
         for (x0, y0), (x1, y1) in zip(self.arm_path_m, self.arm_path_m[1:]):
             total += ((x1 - x0) ** 2 + (y1 - y0) ** 2) ** 0.5
         return total
+
+    @property
+    def second_arm_length_m(self) -> float:
+        """Centreline length of the second arm from the feed leg to its open end (0 without one)."""
+        path = self.second_arm_path_m or ()
+        return sum(((x1 - x0) ** 2 + (y1 - y0) ** 2) ** 0.5 for (x0, y0), (x1, y1) in zip(path, path[1:]))
+
+    @property
+    def second_arm_height_m(self) -> float | None:
+        """Height of the second arm's junction with the feed leg (``None`` without a second arm)."""
+        return self.second_arm_path_m[0][1] if self.second_arm_path_m else None
 
     @property
     def feed_short_spacing_m(self) -> float:

@@ -256,7 +256,7 @@ def ground_grid_wires(ifa: PrintedIfa, control: MeshControl, detail_m: float) ->
     ys = _graded_lines(0.0, -g.length_m, fine, pitch, control.grid_growth)
     if far_pitch > pitch:  # graded rows where they save some (else the same grid, to the last bit)
         ys = min(ys, _graded_lines(0.0, -g.length_m, fine, pitch, control.grid_growth, near, far_pitch), key=len)
-    arm_x = [p[0] for p in ifa.arm_path_m] + [ifa.feed_x_m, ifa.short_x_m]
+    arm_x = [p[0] for p in ifa.arm_path_m + (ifa.second_arm_path_m or ())] + [ifa.feed_x_m, ifa.short_x_m]
     x_lo, x_hi = max(g.x_min_m, min(arm_x)), min(g.x_max_m, max(arm_x))
     uniform = _column_lines(g.x_min_m, g.x_max_m, (x_lo - near, x_hi + near), pitch, far_pitch, control.grid_growth)
     legs = (("feed_x_m", ifa.feed_x_m, ifa.trace_width_m), ("short_x_m", ifa.short_x_m, ifa.short_width_m))
@@ -304,18 +304,47 @@ def antenna_wires(ifa: PrintedIfa, control: MeshControl) -> tuple[list[Wire], fl
     a_short = strip_equivalent_radius_m(ifa.short_width_m)
     detail = min(control.max_segment_m,
                  min(ifa.height_m, max(ifa.feed_short_spacing_m, GEOMETRY_TOL_M)) / control.detail_segments)
+    second = _second_arm_polyline(ifa, gap, junction)
+    if second:  # the gap between the two arms is a feature too
+        detail = min(detail, abs(second[0][1] - junction[1]) / control.detail_segments)
     detail = max(detail, MIN_SEGMENT_TO_TRACE_RADIUS * max(a_trace, a_short))
     t_cu = ifa.laminate.copper_thickness_m
     per_trace = 2.0 * (ifa.trace_width_m + t_cu)
     per_short = 2.0 * (ifa.short_width_m + t_cu)
+    # the feed leg from the port gap up, split where the second arm branches off it
+    leg_stops = sorted({junction[1], second[0][1]}) if second else [junction[1]]
+    leg = [(ifa.feed_x_m, gap)] + [(ifa.feed_x_m, y) for y in leg_stops]
     wires = [
         Wire((ifa.feed_x_m, 0.0, 0.0), (ifa.feed_x_m, gap, 0.0), 1, solvable_radius_m(gap, a_trace), per_trace),
-        _straight((ifa.feed_x_m, gap), junction, detail, a_trace, per_trace),
+        _straight(leg[0], leg[1], detail, a_trace, per_trace),
         _straight((ifa.short_x_m, 0.0), arm[0], detail, a_short, per_short),
     ]
     for p0, p1 in zip(arm, arm[1:]):
         wires.append(_straight(p0, p1, detail, a_trace, per_trace))
+    for p0, p1 in list(zip(leg[1:], leg[2:])) + list(zip(second, second[1:])):
+        wires.append(_straight(p0, p1, detail, a_trace, per_trace))
     return wires, detail
+
+
+def _second_arm_polyline(ifa: PrintedIfa, gap_m: float, junction: tuple[float, float]) -> list[tuple[float, float]]:
+    """The second arm's vertices from its junction on the feed leg (empty without a second arm).
+
+    The junction must lie on the feed leg above the port gap and apart from the main arm's
+    junction (the arms would short); a close first vertex snaps onto the leg's x."""
+    if not ifa.second_arm_path_m:
+        return []
+    pts = [tuple(p) for p in ifa.second_arm_path_m]
+    x0, y0 = pts[0]
+    if abs(x0 - ifa.feed_x_m) > VERTEX_MERGE_M:
+        raise SolverError(f"second_arm_path_m = {pts[0]!r}: the second arm must start on the feed leg "
+                          f"(x = {ifa.feed_x_m!r} m)")
+    if len(pts) < 2:
+        raise SolverError(f"second_arm_path_m = {pts!r}: needs at least two points")
+    if y0 <= gap_m + VERTEX_MERGE_M or abs(y0 - junction[1]) < VERTEX_MERGE_M:
+        raise SolverError(f"second_arm_path_m = {pts[0]!r}: the second arm must branch off the feed leg "
+                          f"above the port gap and apart from the main arm")
+    pts[0] = (ifa.feed_x_m, y0)
+    return _merge_close_vertices(pts, pts[0])
 
 
 def ifa_wire_model(ifa: PrintedIfa, f_max_hz: float, with_ground: bool = True, with_laminate: bool = True,

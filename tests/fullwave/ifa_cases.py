@@ -63,8 +63,10 @@ def case_to_ifa(case: dict[str, Any]) -> PrintedIfa:
             copper_thickness_m=laminate["copper_thickness_mm"] * MM_TO_M,
         ),
         # the openEMS board ends board_margin_mm beyond the arm copper's top edge
-        board_edge_y_m=(max(y for _, y in case["arm_path_mm"]) + 0.5 * case["trace_width_mm"]
-                        + case["board_margin_mm"]) * MM_TO_M,
+        board_edge_y_m=(max(y for _, y in case["arm_path_mm"] + case.get("second_arm_path_mm", []))
+                        + 0.5 * case["trace_width_mm"] + case["board_margin_mm"]) * MM_TO_M,
+        second_arm_path_m=(tuple((x * MM_TO_M, y * MM_TO_M) for x, y in case["second_arm_path_mm"])
+                           if case.get("second_arm_path_mm") else None),
         cover=None if "cover" not in case else Cover(
             eps_r=case["cover"]["eps_r"],
             thickness_m=case["cover"]["thickness_mm"] * MM_TO_M,
@@ -74,7 +76,11 @@ def case_to_ifa(case: dict[str, Any]) -> PrintedIfa:
 
 
 def sweep_band_hz(case: dict[str, Any]) -> tuple[float, float]:
-    """(f_lo, f_hi) of the stored sweep for a case."""
+    """(f_lo, f_hi) of the stored sweep for a case: ``sweep_mhz`` when the case gives one (a
+    dual-band case sweeps both bands), else 0.7-1.3 times the design frequency."""
+    if "sweep_mhz" in case:
+        lo, hi = case["sweep_mhz"]
+        return lo * MHZ_TO_HZ, hi * MHZ_TO_HZ
     f_design_hz = case["f_design_mhz"] * MHZ_TO_HZ
     return BAND_LO_FRACTION * f_design_hz, BAND_HI_FRACTION * f_design_hz
 
@@ -94,3 +100,11 @@ def arm_y_above_x_m(ifa: PrintedIfa, x_m: float) -> float:
 def result_path(name: str, results_dir: Path = RESULTS_DIR) -> Path:
     """Where the stored openEMS result of case ``name`` lives."""
     return results_dir / f"{name}.json"
+
+
+def band_windows_hz(case: dict[str, Any]) -> list[tuple[float, float]]:
+    """The frequency windows a dual-band case's resonances are searched in (``bands_mhz``), or
+    the whole sweep for a single-band case."""
+    if "bands_mhz" in case:
+        return [(lo * MHZ_TO_HZ, hi * MHZ_TO_HZ) for lo, hi in case["bands_mhz"]]
+    return [sweep_band_hz(case)]

@@ -50,6 +50,7 @@ sys.path.insert(0, str(HERE.parent.parent))
 from ifa_cases import (  # noqa: E402
     RESULTS_DIR,
     arm_y_above_x_m,
+    band_windows_hz,
     case_by_name,
     case_to_ifa,
     load_cases,
@@ -82,6 +83,9 @@ AIR_MARGIN_WAVELENGTHS = 0.4
 PML_CELLS = 8
 # Gaussian excitation half-bandwidth as a fraction of the design frequency
 EXCITATION_FC_FRACTION = 0.5
+# a case with its own sweep (dual-band): Gaussian over the sweep, this much wider, fc < f0
+EXCITATION_SWEEP_MARGIN = 1.2
+EXCITATION_MAX_FC_FRACTION = 0.9
 N_FREQ_POINTS = 601
 NUM_THREADS = 1
 # annealed copper (IEC 60028 standard, from memory), for the radiation runs' conducting sheets
@@ -168,6 +172,8 @@ def copper_boxes_m(ifa: PrintedIfa) -> list[tuple[float, float, float, float]]:
     path = ifa.arm_path_m
     arm_y_short = path[0][1]
     arm_y_feed = arm_y_above_x_m(ifa, ifa.feed_x_m)
+    if ifa.second_arm_path_m:  # the feed leg runs on up to a second arm above the main one
+        arm_y_feed = max(arm_y_feed, ifa.second_arm_path_m[0][1])
     boxes = [
         (ifa.short_x_m - 0.5 * ifa.short_width_m, 0.0,
          ifa.short_x_m + 0.5 * ifa.short_width_m, arm_y_short + half),
@@ -187,7 +193,39 @@ def copper_boxes_m(ifa: PrintedIfa) -> list[tuple[float, float, float, float]]:
             sgn = 1.0 if y1 > y0 else -1.0
             ya, yb = y0 - sgn * start_ext, y1 + sgn * end_ext
             boxes.append((x0 - half, min(ya, yb), x0 + half, max(ya, yb)))
+    return boxes + _path_boxes_m(ifa.second_arm_path_m or (), w)
+
+
+def _path_boxes_m(path: tuple[tuple[float, float], ...], w: float) -> list[tuple[float, float, float, float]]:
+    """A second arm's centreline widened to ``w`` (it starts on the feed leg; corners filled,
+    the copper ends at the last point)."""
+    half = 0.5 * w
+    boxes = []
+    n_seg = len(path) - 1
+    for k, ((x0, y0), (x1, y1)) in enumerate(zip(path, path[1:])):
+        if x0 != x1 and y0 != y1:
+            raise ValueError(f"second arm segment {k} is not axis-parallel: {(x0, y0)} -> {(x1, y1)}")
+        end_ext = 0.0 if k == n_seg - 1 else half
+        lo_x, hi_x = sorted((x0, x1))
+        lo_y, hi_y = sorted((y0, y1))
+        if x0 != x1:
+            ext_lo, ext_hi = (half, end_ext) if x1 > x0 else (end_ext, half)
+            boxes.append((lo_x - ext_lo, y0 - half, hi_x + ext_hi, y0 + half))
+        else:
+            ext_lo, ext_hi = (half, end_ext) if y1 > y0 else (end_ext, half)
+            boxes.append((x0 - half, lo_y - ext_lo, x0 + half, hi_y + ext_hi))
     return boxes
+
+
+def excitation_hz(case: dict[str, Any]) -> tuple[float, float]:
+    """Gaussian excitation (f0, fc): around the design frequency, or over a case's own
+    ``sweep_mhz`` (a dual-band case) with EXCITATION_SWEEP_MARGIN to spare at each end."""
+    if "sweep_mhz" in case:
+        lo, hi = sweep_band_hz(case)
+        f0 = 0.5 * (lo + hi)
+        return f0, min(EXCITATION_SWEEP_MARGIN * 0.5 * (hi - lo), EXCITATION_MAX_FC_FRACTION * f0)
+    f_design = case["f_design_mhz"] * 1e6
+    return f_design, EXCITATION_FC_FRACTION * f_design
 
 
 def board_extent_m(ifa: PrintedIfa, margin_m: float) -> tuple[float, float, float, float]:
@@ -212,7 +250,7 @@ def cover_extent_m(case: dict[str, Any]) -> tuple[float, float, float] | None:
 def build_mesh(ifa: PrintedIfa, case: dict[str, Any], level: str) -> dict[str, np.ndarray]:
     """Graded x, y, z mesh lines (m) for one case at mesh ``level``."""
     f_design = case["f_design_mhz"] * 1e6
-    f_max = f_design * (1.0 + EXCITATION_FC_FRACTION)
+    f_max = sum(excitation_hz(case))
     lam_min = C0_M_PER_S / f_max
     eps_r = ifa.laminate.eps_r
     t = ifa.laminate.thickness_m
@@ -309,7 +347,7 @@ class _StdoutToFile:
 
 
 def solve_case(case: dict[str, Any], level: str, keep: bool = False,
-               radiation_freqs_hz: list[float] | None = None) -> dict[str, Any]:
+               radiation_freqs_hz: list[float] | None = None, reuse_run: bool = False) -> dict[str, Any]:
     """Build and run the openEMS model of one case; return the result record (JSON-ready).
 
     With ``radiation_freqs_hz`` the copper is a conducting sheet (annealed copper conductivity,
@@ -330,7 +368,8 @@ def solve_case(case: dict[str, Any], level: str, keep: bool = False,
         f"{max(max_ratio(mx), max_ratio(my), max_ratio(mz)):.3f}")
 
     fdtd = OpenEms(NrTS=MAX_TIME_STEPS, EndCriteria=END_CRITERION)
-    fdtd.SetGaussExcite(f_design, EXCITATION_FC_FRACTION * f_design)
+    f0_exc, fc_exc = excitation_hz(case)
+    fdtd.SetGaussExcite(f0_exc, fc_exc)
     fdtd.SetBoundaryCond([f"PML_{PML_CELLS}"] * 6)
     csx = ContinuousStructure()
     fdtd.SetCSX(csx)
@@ -371,19 +410,23 @@ def solve_case(case: dict[str, Any], level: str, keep: bool = False,
                                   float(mesh["air_margin_m"]), radiation_freqs_hz)
 
     sim_path = SIM_ROOT / f"{name}_{level}{'_rad' if radiation_freqs_hz else ''}"
-    if sim_path.exists():
-        shutil.rmtree(sim_path)
-    sim_path.mkdir(parents=True)
     log_path = sim_path / "openems_stdout.log"
-    log(f"{name}/{level}: running openEMS ({NUM_THREADS} thread), log {log_path}")
-    t0 = time.monotonic()
-    cwd = os.getcwd()  # openEMS's Run changes the working directory to sim_path
-    try:
-        with _StdoutToFile(log_path):
-            fdtd.Run(str(sim_path), cleanup=False, verbose=1, numThreads=NUM_THREADS)
-    finally:
-        os.chdir(cwd)
-    wall_s = time.monotonic() - t0
+    if reuse_run and log_path.exists():  # post-process a kept, finished run of the same model
+        log(f"{name}/{level}: reading the finished run in {sim_path}")
+        wall_s = float(re.findall(r"Time for \d+ iterations with [0-9.]+ cells : ([0-9.]+) sec", log_path.read_text(errors="replace"))[-1])
+    else:
+        if sim_path.exists():
+            shutil.rmtree(sim_path)
+        sim_path.mkdir(parents=True)
+        log(f"{name}/{level}: running openEMS ({NUM_THREADS} thread), log {log_path}")
+        t0 = time.monotonic()
+        cwd = os.getcwd()  # openEMS's Run changes the working directory to sim_path
+        try:
+            with _StdoutToFile(log_path):
+                fdtd.Run(str(sim_path), cleanup=False, verbose=1, numThreads=NUM_THREADS)
+        finally:
+            os.chdir(cwd)
+        wall_s = time.monotonic() - t0
     text = log_path.read_text(errors="replace")
     steps_match = re.findall(r"Time for (\d+) iterations", text)
     energy_match = re.findall(r"\(-\s*([0-9.]+)\s*dB\)", text)
@@ -397,6 +440,11 @@ def solve_case(case: dict[str, Any], level: str, keep: bool = False,
     s11 = port.uf_ref / port.uf_inc
     zin = port.uf_tot / port.if_tot
     derived = derived_figures(freqs, s11, zin)
+    if "bands_mhz" in case:  # dual-band: the figures of each band's own window
+        derived["bands"] = []
+        for lo, hi in band_windows_hz(case):
+            window = (freqs >= lo) & (freqs <= hi)
+            derived["bands"].append({"window_hz": [lo, hi], **derived_figures(freqs[window], s11[window], zin[window])})
     radiation = None
     if nf2ff_box is not None:
         from radiation import far_field_summary
@@ -424,8 +472,7 @@ def solve_case(case: dict[str, Any], level: str, keep: bool = False,
             "air_margin_mm": float(mesh["air_margin_m"]) * 1e3,
             "end_criterion": END_CRITERION,
             "max_time_steps": MAX_TIME_STEPS,
-            "excitation": {"type": "gauss", "f0_hz": f_design,
-                           "fc_hz": EXCITATION_FC_FRACTION * f_design},
+            "excitation": {"type": "gauss", "f0_hz": f0_exc, "fc_hz": fc_exc},
             "port": {"type": "lumped", "r_ohm": PORT_RESISTANCE_OHM, "direction": "y",
                      "place": "ground edge y=0 to feed leg bottom y=port_gap, feed trace width"},
             "laminate_kappa_s_per_m": kappa,
@@ -514,6 +561,8 @@ def main(argv: list[str] | None = None) -> int:
     parser.add_argument("--mesh", choices=sorted(CELLS_PER_WIDTH), default="fine")
     parser.add_argument("--suffix", default="", help="appended to the result file name")
     parser.add_argument("--keep", action="store_true", help="keep the openEMS run directory")
+    parser.add_argument("--reuse-run", action="store_true",
+                        help="post-process a kept, finished run directory of the same case instead of solving")
     parser.add_argument("--mesh-only", action="store_true", help="print mesh sizes, no solve")
     parser.add_argument("--radiation-mhz", type=float, action="append",
                         help="near-to-far-field transform at this frequency (repeatable); "
@@ -538,7 +587,7 @@ def main(argv: list[str] | None = None) -> int:
                 f"{max(max_ratio(m[k]) for k in 'xyz'):.3f}")
             continue
         rad = [f * 1e6 for f in args.radiation_mhz] if args.radiation_mhz else None
-        record = solve_case(case, args.mesh, keep=args.keep, radiation_freqs_hz=rad)
+        record = solve_case(case, args.mesh, keep=args.keep, radiation_freqs_hz=rad, reuse_run=args.reuse_run)
         path = args.out / f"{case['name']}{args.suffix}.json"
         with open(path, "w", encoding="utf-8") as handle:
             json.dump(record, handle, indent=1)
