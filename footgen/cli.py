@@ -125,7 +125,8 @@ def validate_cmd(spec: Path) -> None:
     Example:
       footgen validate examples/soil-probe-2g4.json
     """
-    from footgen.spec import fab_findings, load_spec
+    from footgen.spec import load_spec
+    from footgen.spec_checks import fab_findings
 
     loaded = load_spec(spec)
     findings = fab_findings(loaded)
