@@ -116,10 +116,13 @@ def second_arm_rows(spec: Spec, dims: dict[str, float]) -> list[str]:
     second = spec.second_arm
     if second is None or "second_arm_length_mm" not in dims:
         return []
+    from footgen.geometry.dualband import second_arm_style
+
     t = second.target
     return [
         f"| second band | {t.low_hz / 1e6:g} to {t.high_hz / 1e6:g} MHz ({t.label}) |",
-        f"| second arm ({second.kind}, {second.position} the main arm) length from the feed leg | {dims['second_arm_length_mm']:.3f} mm |",
+        f"| second arm ({second_arm_style(second.kind, int(dims.get('second_arm_meander_legs', 0)))}, {second.position} the main arm) "
+        f"length from the feed leg | {dims['second_arm_length_mm']:.3f} mm |",
         f"| second arm height above the ground edge | {dims['second_arm_height_mm']:.3f} mm |",
     ]
 

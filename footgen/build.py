@@ -179,11 +179,10 @@ def report_markdown(result: BuildResult) -> str:
 
 def output_files(result: BuildResult, *, include_footprint: bool) -> dict[str, bytes]:
     """The files of a build, relative to the output folder."""
-    from footgen.draw import drawing
+    from footgen.draw import drawing, drawing_subtitle
 
     spec = result.spec
-    subtitle = f"{spec.target.low_hz / 1e6:g}-{spec.target.high_hz / 1e6:g} MHz, {spec.style.kind}, revision {spec.revision}"
-    canvas = drawing(result.layout, spec.name, subtitle, result.violations)
+    canvas = drawing(result.layout, spec.name, drawing_subtitle(spec), result.violations, second_arm_kind=second_arm_kind(spec))
     names = output_names(spec)
     files = {
         names["report"]: report_markdown(result).encode("utf-8"),
@@ -195,6 +194,10 @@ def output_files(result: BuildResult, *, include_footprint: bool) -> dict[str, b
     if include_footprint:
         files[names["footprint"]] = result.footprint_text.encode("utf-8")
     return files
+
+
+def second_arm_kind(spec: Spec) -> str | None:
+    return spec.second_arm.kind if spec.second_arm is not None else None
 
 
 def output_names(spec: Spec) -> dict[str, str]:

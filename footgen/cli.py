@@ -205,7 +205,7 @@ def draw_cmd(spec: Path, output: Path, force: bool) -> None:
     Example:
       footgen draw examples/soil-probe-2g4.json -o antenna.svg
     """
-    from footgen.build import run
+    from footgen.build import run, second_arm_kind
     from footgen.draw import drawing
     from footgen.outputs import precheck_edits, write_outputs
     from footgen.spec import load_spec
@@ -216,7 +216,7 @@ def draw_cmd(spec: Path, output: Path, force: bool) -> None:
     loaded = load_spec(spec)
     precheck_edits(output.parent, [output.name], force=force)  # before any solve
     result = run(loaded)
-    canvas = drawing(result.layout, result.spec.name, result.spec.target.label, result.violations)
+    canvas = drawing(result.layout, result.spec.name, result.spec.target.label, result.violations, second_arm_kind=second_arm_kind(result.spec))
     write_outputs(output.parent, {output.name: canvas.svg() if suffix == ".svg" else canvas.png()}, force=force)
     click.echo(f"wrote {output}")
 

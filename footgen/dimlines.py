@@ -7,6 +7,7 @@ greedily so that no two labels meet.
 
 from __future__ import annotations
 
+import itertools
 import math
 from dataclasses import dataclass
 from typing import Iterable, Sequence
@@ -17,6 +18,10 @@ Point = tuple[float, float]
 LANE_PX = 24.0  # spacing of horizontal dimension lanes
 LANE_GAP_PX = 12.0  # between the copper and the first lane, and between labels in a lane
 ARROW_PX = 7.0
+#: Most dimensions on one side whose every order :func:`pack_lanes` tries (7! orders).
+MAX_ORDER_SEARCH = 7
+#: An extension line keeps this far from any label it passes (px).
+EXTENSION_CLEAR_PX = 6.0
 SIZE_DIM = 12.0
 DIM_COLOR = "#1a202c"
 
@@ -83,23 +88,71 @@ def _place_dim(dim: Dim, k: float, limit: tuple[float, float], avoid: Sequence[f
     return Placed(dim, lo, hi, (min(lo - pad, span[0]), max(hi + pad, span[1])), name)
 
 
-def pack_lanes(dims: Sequence[Dim], k: float, limit: tuple[float, float]) -> list[Placed]:
+def label_span(p: Placed) -> tuple[float, float]:
+    """Where a placed dimension's label lies along it (lane coordinates, as ``lo``/``hi``)."""
+    along = text_width(p.dim.label, SIZE_DIM) if p.dim.axis == "x" else text_height(SIZE_DIM)
+    pad = ARROW_PX + 4
+    if p.label_at == "after":
+        return (p.hi + pad, p.hi + pad + along)
+    if p.label_at == "before":
+        return (p.lo - pad - along, p.lo - pad)
+    mid = (p.lo + p.hi) / 2
+    return (mid - along / 2, mid + along / 2)
+
+
+def _extension_at(p: Placed, k: float) -> tuple[float, float]:
+    """Where a placed dimension's extension lines run (lane coordinates): they cross every lane
+    nearer the copper than its own."""
+    i = 0 if p.dim.axis == "x" else 1
+    return (k * p.dim.a[i], k * p.dim.b[i])
+
+
+def _crossed(label: tuple[float, float], extensions: Iterable[float]) -> bool:
+    return any(label[0] - EXTENSION_CLEAR_PX <= e <= label[1] + EXTENSION_CLEAR_PX for e in extensions)
+
+
+def crossings(placed: Sequence[Placed], k: float) -> int:
+    """Extension lines that cross a label of a nearer lane."""
+    return sum(_crossed(label_span(q), _extension_at(p, k)) for p in placed for q in placed if q.lane < p.lane)
+
+
+def pack_lanes(dims: Sequence[Dim], k: float, limit: tuple[float, float], *, search_order: bool = False) -> list[Placed]:
+    """Lanes for ``dims`` (:func:`pack_in_order`).  ``search_order``: try every order of up to
+    MAX_ORDER_SEARCH dimensions and keep the first with the fewest extension lines across
+    labels, then the fewest lanes (the given order wins ties)."""
+    if not search_order or len(dims) > MAX_ORDER_SEARCH:
+        return pack_in_order(dims, k, limit)
+    best: tuple[tuple[int, int], list[Placed]] | None = None
+    for order in itertools.permutations(dims):
+        placed = pack_in_order(order, k, limit)
+        key = (crossings(placed, k), 1 + max((p.lane for p in placed), default=-1))
+        if best is None or key < best[0]:
+            best = (key, placed)
+    assert best is not None
+    return best[1]
+
+
+def pack_in_order(dims: Sequence[Dim], k: float, limit: tuple[float, float]) -> list[Placed]:
     """Greedy lane assignment in the given order: each dimension takes the first lane where its
-    span (label included) keeps LANE_GAP_PX from every other span."""
+    span (label included) keeps LANE_GAP_PX from every other span and where no extension line
+    crosses a label (its own across the labels of nearer lanes, those of farther lanes across
+    its label); when no lane is free of crossings, the first lane free of span overlaps."""
     lanes: list[list[tuple[float, float]]] = []
-    out = []
+    out: list[Placed] = []
     for dim in dims:
         i = 0 if dim.axis == "x" else 1
         avoid = [k * p[i] for other in dims if other is not dim for p in (other.a, other.b)]
         p = _place_dim(dim, k, limit, avoid)
         a, b = p.span
-        for n, lane in enumerate(lanes + [[]]):
-            if all(b + LANE_GAP_PX <= c or d + LANE_GAP_PX <= a for c, d in lane):
-                if n == len(lanes):
-                    lanes.append([])
-                lanes[n].append((a, b))
-                out.append(Placed(p.dim, p.lo, p.hi, p.span, p.label_at, n))
-                break
+        free = [n for n, lane in enumerate(lanes + [[]]) if all(b + LANE_GAP_PX <= c or d + LANE_GAP_PX <= a for c, d in lane)]
+        clear = [n for n in free
+                 if not any(_crossed(label_span(q), _extension_at(p, k)) for q in out if q.lane < n)
+                 and not any(_crossed(label_span(p), _extension_at(q, k)) for q in out if q.lane > n)]
+        n = (clear or free)[0]
+        if n == len(lanes):
+            lanes.append([])
+        lanes[n].append((a, b))
+        out.append(Placed(p.dim, p.lo, p.hi, p.span, p.label_at, n))
     return out
 
 

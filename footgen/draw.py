@@ -22,7 +22,9 @@ from footgen.canvas import Box, Canvas, Circle, Shape, Text, text_height, text_w
 from footgen.dimlines import (
     LANE_GAP_PX, LANE_PX, SIZE_DIM, Dim, Frame, Note, arrow, draw_dim, lane_widths, line, pack_lanes, text_centered, wrap,
 )
+from footgen.geometry.dualband import second_arm_style
 from footgen.geometry.layout import Layout
+from footgen.spec import Spec
 
 #: Ground shown this far below the deepest pad (mm); the plane itself may be much larger.
 GROUND_VIEW_MM = 2.0
@@ -90,6 +92,9 @@ class Plane:
     arm: list[Point]
     direction: int  # +1: the arm runs towards +x, -1: towards -x
     view: tuple[float, float, float, float]
+    #: A dual-band IFA's second arm: its centreline and the copper of both arms (main, second).
+    second_arm: tuple[Point, ...] = ()
+    arm_copper: tuple[Polygon, Polygon] | None = None
 
 
 def unrotate(layout: Layout, rotation_deg: int) -> Plane:
@@ -117,7 +122,10 @@ def unrotate(layout: Layout, rotation_deg: int) -> Plane:
     y1 = max(max(y for _, y in edge_pts), clearance.bounds[3])
     ground = turn(layout.ground).intersection(box(x0 - 1.0, y0, x1 + 1.0, 0.0))
     direction = 1 if arm[-1][0] >= arm[0][0] else -1
-    return Plane(antenna, turn(layout.pad("1").polygon_anchor), pad2, vias, ground, clearance, notch, (edge_pts[0], edge_pts[-1]), arm, direction, (x0 - 1.0, y0, x1 + 1.0, y1))
+    second = tuple(pt(p) for p in layout.copper.second_arm_path or ())
+    arms = (turn(layout.copper.trace("arm").polygon()), turn(layout.copper.trace("second_arm").polygon())) if second else None
+    return Plane(antenna, turn(layout.pad("1").polygon_anchor), pad2, vias, ground, clearance, notch, (edge_pts[0], edge_pts[-1]), arm, direction, (x0 - 1.0, y0, x1 + 1.0, y1),
+                 second, arms)
 
 
 def dimensions(plane: Plane, layout: Layout) -> tuple[list[Dim], list[Note]]:
@@ -142,6 +150,8 @@ def dimensions(plane: Plane, layout: Layout) -> tuple[list[Dim], list[Note]]:
         notes.append(Note(arm[-1], f"arm {d['arm_length_mm']:.2f} along the centreline, {int(d['meander_turns'])} turns"))
     else:
         dims.append(Dim("x", (arm[0][0], top), (arm[-1][0], top), f"arm {d['arm_length_mm']:.2f}", "top"))
+    if plane.second_arm:  # inside the main arm's dimension: its extension lines cross no other dimension
+        dims[2:2] = second_arm_dims(plane, d)
     dims.append(Dim("x", (cx0, cy1), (cx1, cy1), f"clearance area width {d['clearance_width_mm']:.2f}", "top"))
     dims.append(Dim("y", (near_x, 0.0), (xs - m * ws / 2, h), f"height {h:.2f}", near))
     dims.append(Dim("y", (near_x, 0.0), (near_x, cy1), f"depth {d['clearance_depth_mm']:.2f}", near))
@@ -157,8 +167,84 @@ def dimensions(plane: Plane, layout: Layout) -> tuple[list[Dim], list[Note]]:
     flats = [(a, b) for a, b in zip(arm, arm[1:]) if abs(a[1] - b[1]) < GRID_SLACK_MM and abs(a[0] - b[0]) > w]
     a, b = max(flats, key=lambda seg: max(m * seg[0][0], m * seg[1][0]))
     tx = max(a[0], b[0]) - w / 2 if m > 0 else min(a[0], b[0]) + w / 2
+    if plane.second_arm:  # before the trace's: nearest the copper, their extension lines cross no label
+        dims += second_arm_heights(plane, d, far)
     dims.append(Dim("y", (tx, a[1] - w / 2), (tx, a[1] + w / 2), f"trace {w:.2f}", far))
+    if plane.second_arm:
+        if d.get("second_arm_meander_legs"):
+            notes.append(Note(plane.second_arm[-1], f"second arm {d['second_arm_length_mm']:.2f} along the centreline, "
+                                                     f"{int(d['second_arm_meander_legs'])} legs"))
     return dims, notes
+
+
+def _far_end(points: Sequence[Point], y: float, m: int) -> Point:
+    """Of ``points`` at height ``y``, the one furthest along the arm direction ``m``."""
+    return max((p for p in points if abs(p[1] - y) < GRID_SLACK_MM), key=lambda p: m * p[0])
+
+
+def second_arm_dims(plane: Plane, d: dict[str, float]) -> list[Dim]:
+    """The second arm's reach from the feed leg's centreline, along its top edge (its length
+    when straight; a meandered one's length is a callout)."""
+    path, w = plane.second_arm, d["trace_width_mm"]
+    h2 = path[0][1]
+    end = max(path, key=lambda p: plane.direction * p[0])
+    length = f"second arm {d['second_arm_length_mm']:.2f}" if len(path) == 2 else f"second arm reach {abs(end[0] - path[0][0]):.2f}"
+    return [Dim("x", (path[0][0], h2 + w / 2), (end[0], end[1] + w / 2), length, "top")]
+
+
+def arm_gap(plane: Plane) -> tuple[Point, Point]:
+    """The copper gap between the arms where they face each other (over the x range both
+    span): (point on the second arm, point on the main arm), each the far end of its facing edge."""
+    assert plane.arm_copper is not None
+    main, second = plane.arm_copper
+    lo, hi = max(main.bounds[0], second.bounds[0]), min(main.bounds[2], second.bounds[2])
+    strip = box(lo, -1e6, hi, 1e6)
+    m = plane.direction
+    under = second.bounds[1] < main.bounds[1]
+    faces = []
+    for poly, top in ((second, under), (main, not under)):
+        part = poly.intersection(strip)
+        y = part.bounds[3] if top else part.bounds[1]
+        faces.append(_far_end(poly.exterior.coords, y, m))
+    return faces[0], faces[1]
+
+
+def second_arm_heights(plane: Plane, d: dict[str, float], far: str) -> list[Dim]:
+    """The second arm's height above the ground edge (to its centreline, at the far end of its
+    run there) and the copper gap to the main arm, both on the far side."""
+    path = plane.second_arm
+    h2 = path[0][1]
+    cx0, _, cx1, _ = plane.clearance.bounds
+    far_x = cx1 if plane.direction > 0 else cx0
+    a, b = arm_gap(plane)
+    return [
+        Dim("y", a, b, f"arm gap {abs(b[1] - a[1]):.2f}", far),
+        Dim("y", (far_x, 0.0), _far_end(path, h2, plane.direction), f"second arm height {h2:.2f}", far),
+    ]
+
+
+def second_arm_line(plane: Plane, d: dict[str, float], kind: str | None) -> str:
+    """The summary's line on a dual-band IFA's second arm (``kind``: the spec's, else read off
+    the copper)."""
+    legs = int(d.get("second_arm_meander_legs", 0))
+    style = second_arm_style(kind or ("meandered" if legs else "straight"), legs)
+    a, b = arm_gap(plane)
+    return (f"Second arm {d['second_arm_length_mm']:.2f} mm along the centreline from the feed leg, "
+            f"{d['second_arm_height_mm']:.2f} mm above the ground edge, {'under' if a[1] < b[1] else 'above'} the main arm, "
+            f"{style}{f' with {legs} legs' if legs else ''}; copper gap to the main arm {abs(b[1] - a[1]):.2f} mm.")
+
+
+def drawing_subtitle(spec: Spec) -> str:
+    """The drawing's subtitle: the band (both bands of a dual-band IFA, each with its arm's
+    kind), the style and the revision."""
+    def band(t) -> str:
+        return f"{t.low_hz / 1e6:g}-{t.high_hz / 1e6:g} MHz"
+
+    second = spec.second_arm
+    if second is None:
+        return f"{band(spec.target)}, {spec.style.kind}, revision {spec.revision}"
+    return (f"{band(spec.target)} (main arm, {spec.style.kind}) and {band(second.target)} (second arm, {second.kind}), "
+            f"revision {spec.revision}")
 
 
 def pad_notes(layout: Layout, plane: Plane) -> list[Note]:
@@ -214,8 +300,9 @@ def _unit_cs(rotation_deg: int) -> tuple[int, int]:
     return round(math.cos(math.radians(rotation_deg))), round(math.sin(math.radians(rotation_deg)))
 
 
-def drawing(layout: Layout, title: str, subtitle: str, violations: Sequence = ()) -> Canvas:
-    """The copper drawing as a canvas (every label's box known)."""
+def drawing(layout: Layout, title: str, subtitle: str, violations: Sequence = (), *, second_arm_kind: str | None = None) -> Canvas:
+    """The copper drawing as a canvas (every label's box known); ``second_arm_kind``: the spec's
+    kind of a dual-band IFA's second arm, for the summary."""
     rot = rotation_of(layout)
     plane = unrotate(layout, rot)
     dims, notes = dimensions(plane, layout)
@@ -228,7 +315,7 @@ def drawing(layout: Layout, title: str, subtitle: str, violations: Sequence = ()
     for _ in range(4):  # lane widths depend on the scale and the scale on the lane widths
         room = width - 2 * MARGIN_PX - sum(side_w.values()) - 2 * LANE_GAP_PX
         k = min(room / gw, MAX_VIEW_HEIGHT_PX / gh)
-        placed = {side: pack_lanes(ds, k, (k * vx0 - side_w["left"], k * vx1 + side_w["right"]))
+        placed = {side: pack_lanes(ds, k, (k * vx0 - side_w["left"], k * vx1 + side_w["right"]), search_order=bool(plane.second_arm))
                   for side, ds in sides.items()}
         side_w = {s: sum(lane_widths(placed[s])) for s in ("left", "right")}
     view_w, view_h = k * gw, k * gh
@@ -259,7 +346,10 @@ def drawing(layout: Layout, title: str, subtitle: str, violations: Sequence = ()
     _violations(cv, violations, frame, rot)
     y = _legend(cv, y + 10, bool(violations))
     y += 6
-    for entry in summary_lines(layout, rot, violations):
+    entries = summary_lines(layout, rot, violations)
+    if plane.second_arm:
+        entries.insert(1, second_arm_line(plane, layout.dims, second_arm_kind))
+    for entry in entries:
         for part in wrap(entry, width - 2 * MARGIN_PX, SIZE_NOTE):
             cv.add(Text(MARGIN_PX, y, part, SIZE_NOTE))
             y += text_height(SIZE_NOTE) + LINE_GAP_PX
@@ -401,7 +491,8 @@ def _legend(cv: Canvas, y: float, with_violations: bool) -> float:
     return y + th + 6
 
 
-def render_svg_png(layout: Layout, title: str, subtitle: str, violations: Sequence = ()) -> tuple[bytes, bytes]:
+def render_svg_png(layout: Layout, title: str, subtitle: str, violations: Sequence = (), *,
+                   second_arm_kind: str | None = None) -> tuple[bytes, bytes]:
     """SVG and PNG bytes of the copper drawing (deterministic for a given layout)."""
-    cv = drawing(layout, title, subtitle, violations)
+    cv = drawing(layout, title, subtitle, violations, second_arm_kind=second_arm_kind)
     return cv.svg(), cv.png()

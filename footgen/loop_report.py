@@ -332,7 +332,8 @@ def report_files(spec: Spec, measurement: Measurement | None = None, *, previous
                  calibration: Calibration | None = None, uncalibrated: bool = False, model: str = sizing.DEFAULT_MODEL,
                  series: str = "E24", package: str = DEFAULT_PACKAGE, progress: Progress | None = None) -> dict[str, bytes]:
     """The report's files (relative names -> bytes)."""
-    from footgen.draw import render_svg_png
+    from footgen.build import second_arm_kind
+    from footgen.draw import drawing_subtitle, render_svg_png
     from footgen.plots import figure_bytes
     from footgen.revdiff import diff_layouts, diff_markdown, overlay_svg_png, spec_changes
 
@@ -343,8 +344,7 @@ def report_files(spec: Spec, measurement: Measurement | None = None, *, previous
     files: dict[str, bytes] = {}
     images = {}
     say("report: drawing")
-    subtitle = f"{spec.target.low_hz / 1e6:g}-{spec.target.high_hz / 1e6:g} MHz, {spec.style.kind}, revision {spec.revision}"
-    drawings = {"copper": render_svg_png(data.layout, spec.name, subtitle, data.violations),
+    drawings = {"copper": render_svg_png(data.layout, spec.name, drawing_subtitle(spec), data.violations, second_arm_kind=second_arm_kind(spec)),
                 "s11": figure_bytes(s11_figure(data)),
                 "smith": figure_bytes(smith_figure(data))}
     diff_md = None

@@ -14,10 +14,11 @@ from pathlib import Path
 import numpy as np
 import pytest
 from hypothesis import given
+from shapely.geometry import LineString, Point, box
 
 from footgen import canvas
 from footgen.build import run
-from footgen.draw import drawing, rotation_of
+from footgen.draw import drawing, drawing_subtitle, rotation_of
 from footgen.geometry.layout import Sizing, build_layout
 from footgen.rules import check
 from footgen.spec import load_spec, parse_spec
@@ -45,10 +46,28 @@ def assert_labels_clear(cv: canvas.Canvas) -> None:
         assert b.inside(cv.bounds), f"{text!r} leaves the canvas"
 
 
+def assert_lines_clear_of_labels(cv: canvas.Canvas) -> None:
+    """No line (dimension, extension or leader) runs through a label, but for a dimension line
+    through its own label's centre (where the label sits on it, on a white background)."""
+    for item in cv.items:
+        if not isinstance(item, canvas.Shape) or item.closed:
+            continue
+        for a, b in zip(item.points, item.points[1:]):
+            segment = LineString([a, b])
+            for t in cv.texts:
+                inner = t.box.grow(-1.0)
+                centre = Point((t.box.x0 + t.box.x1) / 2, (t.box.y0 + t.box.y1) / 2)
+                if segment.intersects(box(inner.x0, inner.y0, inner.x1, inner.y1)) and segment.distance(centre) > 0.5:
+                    raise AssertionError(f"a line from {a} to {b} runs through {t.text!r}")
+
+
 @pytest.mark.parametrize("spec_path", SPECS, ids=[f"{p.parent.name}/{p.stem}" for p in SPECS])
 def test_no_two_labels_overlap_and_none_leaves_the_canvas(spec_path: Path) -> None:
     result = built(spec_path)
-    assert_labels_clear(drawing(result.layout, result.spec.name, result.spec.target.label, result.violations))
+    cv = drawing(result.layout, result.spec.name, result.spec.target.label, result.violations)
+    assert_labels_clear(cv)
+    if result.spec.second_arm is not None:  # single-band drawings keep their bytes (and their crossings)
+        assert_lines_clear_of_labels(cv)
 
 
 @pytest.mark.parametrize("spec_path", SPECS, ids=[f"{p.parent.name}/{p.stem}" for p in SPECS])
@@ -76,6 +95,9 @@ def test_every_sizing_number_is_dimensioned(spec_path: Path) -> None:
         expected += [f"pitch {result.layout.copper.meander_pitch_mm:.2f}", "meander height "]
     if spec.style.meander_height_mm is not None and d["meander_turns"] > 1:
         expected.append(f"meander height {spec.style.meander_height_mm:.2f}")
+    if spec.second_arm is not None:
+        expected += [f"second arm height {d['second_arm_height_mm']:.2f}", "arm gap ", "Second arm ",
+                     f"second arm {d['second_arm_length_mm']:.2f}"]
     missing = [e for e in expected if e not in labels]
     assert not missing, missing
     rotation = spec.output.rotation_deg
@@ -260,3 +282,95 @@ def test_predict_plot_is_deterministic_and_marks_the_resonance() -> None:
     assert (svg, png) == plot_s11(prediction)
     text = svg.decode("utf-8")
     assert f"resonance {spec.target.center_hz / 1e6:.1f} MHz" in text and "(zoom)" in text and "worst in band" in text
+
+
+# --------------------------------------------------------------------------------- dual band
+
+
+DUAL_TEMPLATE = ROOT / "templates" / "ism-2g4-wifi5-dual.json"
+
+
+def _dual(position: str, kind: str, direction: str, rotation: int):
+    """A dual-band layout of the template with an explicit sizing (no solve): a meandered second
+    arm is made longer than the clearance area is wide, so it needs legs."""
+    from footgen.geometry.dualband import default_heights_mm
+    from footgen.geometry.layout import max_arm_height_mm
+
+    data = copy.deepcopy(load_json(DUAL_TEMPLATE))
+    data["clearance"].update(depth_mm=9.0, arm_direction=direction)
+    data["second_arm"].update(position=position, kind=kind)
+    data["output"] = {"rotation_deg": rotation}
+    spec = parse_spec(data)
+    main_h, second_h = default_heights_mm(spec, max_arm_height_mm(spec))
+    sizing = Sizing(18.0, main_h, 3.0, "explicit", second_arm_length_mm=26.0 if kind == "meandered" else 6.0,
+                    second_arm_height_mm=second_h)
+    return spec, sizing, build_layout(spec, sizing)
+
+
+def _labels(cv: canvas.Canvas) -> str:
+    return "\n".join(t.text for t in cv.texts)
+
+
+@pytest.mark.parametrize("rotation", [0, 90])
+@pytest.mark.parametrize("direction", ["right", "left"])
+@pytest.mark.parametrize("position", ["under", "above"])
+@pytest.mark.parametrize("kind", ["straight", "meandered"])
+def test_the_second_arm_is_dimensioned_without_overlaps(kind: str, position: str, direction: str, rotation: int) -> None:
+    spec, _, layout = _dual(position, kind, direction, rotation)
+    cv = drawing(layout, spec.name, drawing_subtitle(spec), check(layout, spec.fab), second_arm_kind=kind)
+    assert_labels_clear(cv)
+    assert_lines_clear_of_labels(cv)
+    labels = _labels(cv)
+    d, w = layout.dims, spec.trace_width_mm
+    path = layout.copper.second_arm_path
+    main_h = layout.dims["arm_height_mm"]
+    # the arms' copper gap measured on the copper itself (both arms run level where they face)
+    gap = layout.copper.trace("second_arm").polygon().distance(layout.copper.trace("arm").polygon())
+    assert gap == pytest.approx(abs(main_h - d["second_arm_height_mm"]) - w, abs=1e-6)
+    assert f"arm gap {gap:.2f}" in labels
+    assert f"second arm height {d['second_arm_height_mm']:.2f}" in labels
+    if kind == "straight":
+        assert f"second arm {d['second_arm_length_mm']:.2f}" in labels  # a straight arm's reach is its length
+    else:
+        assert d["second_arm_meander_legs"] >= 2
+        assert f"second arm {d['second_arm_length_mm']:.2f} along the centreline, {int(d['second_arm_meander_legs'])} legs" in labels
+        reach = max(abs(x) for x, _ in path) if rotation == 0 else max(abs(y) for _, y in path)
+        assert f"second arm reach {reach:.2f}" in labels
+    side = "under" if position == "under" else "above"
+    assert f"{side} the main arm" in labels
+
+
+def test_the_example_dual_band_drawing_states_both_bands_and_the_second_arm() -> None:
+    from footgen.build import output_files, report_markdown
+
+    result = built(ROOT / "examples" / "greenhouse-hub-dual.json")
+    spec, d = result.spec, result.layout.dims
+    svg = output_files(result, include_footprint=False)[f"{spec.name}.svg"]
+    texts = [t.text or "" for t in ET.fromstring(svg).iter("{http://www.w3.org/2000/svg}text")]
+    subtitle = texts[1]
+    second = spec.second_arm.target
+    assert f"{spec.target.low_hz / 1e6:g}-{spec.target.high_hz / 1e6:g} MHz" in subtitle
+    assert f"{second.low_hz / 1e6:g}-{second.high_hz / 1e6:g} MHz" in subtitle
+    labels = "\n".join(texts)
+    # the example's arm needs no legs: a straight arm of its length fits the clearance area
+    assert len(result.layout.copper.second_arm_path) == 2 and spec.second_arm.kind == "meandered"
+    line = next(t for t in texts if t.startswith("Second arm "))
+    assert line.startswith(f"Second arm {d['second_arm_length_mm']:.2f} mm along the centreline from the feed leg, "
+                           f"{d['second_arm_height_mm']:.2f} mm above the ground edge, under the main arm, meandered style")
+    assert f"second arm {d['second_arm_length_mm']:.2f}" in labels and f"second arm height {d['second_arm_height_mm']:.2f}" in labels
+    assert "second arm (meandered style; fits straight, no legs needed, under the main arm)" in report_markdown(result)
+
+
+def test_the_report_says_meandered_plainly_when_the_second_arm_has_legs() -> None:
+    from footgen.build import BuildResult, report_markdown
+
+    spec, sizing, layout = _dual("under", "meandered", "right", 0)
+    report = report_markdown(BuildResult(spec, sizing, layout, ()))
+    assert "| second arm (meandered, under the main arm) length from the feed leg |" in report
+    assert "no legs needed" not in report
+
+
+def test_single_band_subtitle_is_unchanged() -> None:
+    spec = load_spec(ROOT / "examples" / "soil-probe-2g4.json")
+    assert drawing_subtitle(spec) == (f"{spec.target.low_hz / 1e6:g}-{spec.target.high_hz / 1e6:g} MHz, "
+                                      f"{spec.style.kind}, revision {spec.revision}")

@@ -139,3 +139,14 @@ def with_second_arm(spec: Spec, copper: IfaCopper, sizing) -> IfaCopper:
 def second_arm_length_mm(copper: IfaCopper) -> float:
     """Centreline length of the second arm (0 without one)."""
     return path_length(copper.second_arm_path) if copper.second_arm_path else 0.0
+
+
+def meander_legs(path: tuple[Point, ...]) -> int:
+    """Legs (segments across the arm's run, here vertical) of an arm's centreline: 0 when straight."""
+    return sum(1 for (x0, _), (x1, _) in zip(path, path[1:]) if abs(x1 - x0) <= LENGTH_EPS_MM)
+
+
+def second_arm_style(kind: str, legs: int) -> str:
+    """The second arm's shape in words: a meandered arm whose length fits straight has no legs,
+    and says so."""
+    return "meandered style; fits straight, no legs needed" if kind == "meandered" and not legs else kind

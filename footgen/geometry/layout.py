@@ -358,10 +358,12 @@ def canonical_layout(spec: Spec, sizing: Sizing) -> Layout:
         "meander_pitch_mm": copper.meander_pitch_mm or 0.0,
     }
     if copper.second_arm_path:
+        from footgen.geometry.dualband import meander_legs
         from footgen.geometry.ifa import path_length
 
         dims["second_arm_length_mm"] = path_length(copper.second_arm_path)
         dims["second_arm_height_mm"] = copper.second_arm_path[0][1]
+        dims["second_arm_meander_legs"] = float(meander_legs(copper.second_arm_path))
     return Layout(
         copper=copper,
         antenna=antenna,
