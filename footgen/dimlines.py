@@ -15,6 +15,8 @@ from typing import Iterable, Sequence
 from footgen.canvas import Canvas, Shape, Text, text_height, text_width
 
 Point = tuple[float, float]
+#: Coordinates equal within this are the same line (mm): the layout is snapped to a 1 nm grid.
+GRID_SLACK_MM = 1e-5
 LANE_PX = 24.0  # spacing of horizontal dimension lanes
 LANE_GAP_PX = 12.0  # between the copper and the first lane, and between labels in a lane
 ARROW_PX = 7.0
