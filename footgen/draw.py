@@ -22,7 +22,7 @@ from footgen.canvas import Box, Canvas, Circle, Shape, Text, text_height, text_w
 from footgen.dimlines import (
     GRID_SLACK_MM, LANE_GAP_PX, LANE_PX, SIZE_DIM, Dim, Frame, Note, arrow, draw_dim, lane_widths, line, pack_lanes, text_centered, wrap,
 )
-from footgen.draw_dual import second_arm_dims, second_arm_heights, second_arm_line
+from footgen.draw_dual import legs_words, second_arm_dims, second_arm_heights, second_arm_line
 from footgen.geometry.layout import Layout
 from footgen.spec import Spec
 
@@ -168,10 +168,9 @@ def dimensions(plane: Plane, layout: Layout) -> tuple[list[Dim], list[Note]]:
     if plane.second_arm:  # before the trace's: nearest the copper, their extension lines cross no label
         dims += second_arm_heights(plane, d, far)
     dims.append(Dim("y", (tx, a[1] - w / 2), (tx, a[1] + w / 2), f"trace {w:.2f}", far))
-    if plane.second_arm:
-        if d.get("second_arm_meander_legs"):
-            notes.append(Note(plane.second_arm[-1], f"second arm {d['second_arm_length_mm']:.2f} along the centreline, "
-                                                     f"{int(d['second_arm_meander_legs'])} legs"))
+    if plane.second_arm and d.get("second_arm_meander_legs"):
+        notes.append(Note(plane.second_arm[-1], f"second arm {d['second_arm_length_mm']:.2f} along the centreline, "
+                                                 f"{legs_words(int(d['second_arm_meander_legs']))}"))
     return dims, notes
 
 

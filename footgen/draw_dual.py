@@ -71,4 +71,8 @@ def second_arm_line(plane: Plane, d: dict[str, float], kind: str | None) -> str:
     a, b = arm_gap(plane)
     return (f"Second arm {d['second_arm_length_mm']:.2f} mm along the centreline from the feed leg, "
             f"{d['second_arm_height_mm']:.2f} mm above the ground edge, {'under' if a[1] < b[1] else 'above'} the main arm, "
-            f"{style}{f' with {legs} legs' if legs else ''}; copper gap to the main arm {abs(b[1] - a[1]):.2f} mm.")
+            f"{style}{f' with {legs_words(legs)}' if legs else ''}; copper gap to the main arm {abs(b[1] - a[1]):.2f} mm.")
+
+
+def legs_words(legs: int) -> str:
+    return f"{legs} leg" if legs == 1 else f"{legs} legs"

@@ -13,7 +13,8 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-from hypothesis import given
+from hypothesis import assume, given
+from hypothesis import strategies as st
 from shapely.geometry import LineString, Point, box
 
 from footgen import canvas
@@ -374,3 +375,32 @@ def test_single_band_subtitle_is_unchanged() -> None:
     spec = load_spec(ROOT / "examples" / "soil-probe-2g4.json")
     assert drawing_subtitle(spec) == (f"{spec.target.low_hz / 1e6:g}-{spec.target.high_hz / 1e6:g} MHz, "
                                       f"{spec.style.kind}, revision {spec.revision}")
+
+
+@PROPERTY_SETTINGS
+@given(st.sampled_from(["under", "above"]), st.sampled_from(["straight", "meandered"]), st.sampled_from(["right", "left"]),
+       st.sampled_from([0, 90, 180, 270]), st.floats(12.0, 30.0), st.floats(1.5, 5.0), st.floats(2.0, 30.0))
+def test_dual_band_labels_stay_clear_on_any_second_arm(position, kind, direction, rotation, length, tap, second_length) -> None:
+    from footgen.errors import InfeasibleSpecError
+    from footgen.geometry.dualband import default_heights_mm
+    from footgen.geometry.layout import max_arm_height_mm
+
+    data = copy.deepcopy(load_json(DUAL_TEMPLATE))
+    data["clearance"].update(depth_mm=9.0, arm_direction=direction)
+    data["second_arm"].update(position=position, kind=kind)
+    data["output"] = {"rotation_deg": rotation}
+    spec = parse_spec(data)
+    main_h, second_h = default_heights_mm(spec, max_arm_height_mm(spec))
+    try:
+        layout = build_layout(spec, Sizing(length, main_h, tap, "explicit", second_arm_length_mm=second_length, second_arm_height_mm=second_h))
+    except InfeasibleSpecError:
+        assume(False)
+    cv = drawing(layout, spec.name, drawing_subtitle(spec), check(layout, spec.fab), second_arm_kind=kind)
+    assert_labels_clear(cv)
+    assert f"second arm height {layout.dims['second_arm_height_mm']:.2f}" in _labels(cv)
+
+
+def test_one_leg_is_said_in_the_singular() -> None:
+    from footgen.draw_dual import legs_words
+
+    assert (legs_words(1), legs_words(3)) == ("1 leg", "3 legs")
