@@ -291,9 +291,10 @@ def test_predict_plot_is_deterministic_and_marks_the_resonance() -> None:
 DUAL_TEMPLATE = ROOT / "templates" / "ism-2g4-wifi5-dual.json"
 
 
-def _dual(position: str, kind: str, direction: str, rotation: int):
-    """A dual-band layout of the template with an explicit sizing (no solve): a meandered second
-    arm is made longer than the clearance area is wide, so it needs legs."""
+def _dual(position: str, kind: str, direction: str, rotation: int, length: float = 18.0, tap: float = 3.0,
+          second_length: float | None = None):
+    """A dual-band layout of the template with an explicit sizing (no solve): by default a
+    meandered second arm is made longer than the clearance area is wide, so it needs legs."""
     from footgen.geometry.dualband import default_heights_mm
     from footgen.geometry.layout import max_arm_height_mm
 
@@ -303,8 +304,9 @@ def _dual(position: str, kind: str, direction: str, rotation: int):
     data["output"] = {"rotation_deg": rotation}
     spec = parse_spec(data)
     main_h, second_h = default_heights_mm(spec, max_arm_height_mm(spec))
-    sizing = Sizing(18.0, main_h, 3.0, "explicit", second_arm_length_mm=26.0 if kind == "meandered" else 6.0,
-                    second_arm_height_mm=second_h)
+    if second_length is None:
+        second_length = 26.0 if kind == "meandered" else 6.0
+    sizing = Sizing(length, main_h, tap, "explicit", second_arm_length_mm=second_length, second_arm_height_mm=second_h)
     return spec, sizing, build_layout(spec, sizing)
 
 
@@ -382,17 +384,9 @@ def test_single_band_subtitle_is_unchanged() -> None:
        st.sampled_from([0, 90, 180, 270]), st.floats(12.0, 30.0), st.floats(1.5, 5.0), st.floats(2.0, 30.0))
 def test_dual_band_labels_stay_clear_on_any_second_arm(position, kind, direction, rotation, length, tap, second_length) -> None:
     from footgen.errors import InfeasibleSpecError
-    from footgen.geometry.dualband import default_heights_mm
-    from footgen.geometry.layout import max_arm_height_mm
 
-    data = copy.deepcopy(load_json(DUAL_TEMPLATE))
-    data["clearance"].update(depth_mm=9.0, arm_direction=direction)
-    data["second_arm"].update(position=position, kind=kind)
-    data["output"] = {"rotation_deg": rotation}
-    spec = parse_spec(data)
-    main_h, second_h = default_heights_mm(spec, max_arm_height_mm(spec))
     try:
-        layout = build_layout(spec, Sizing(length, main_h, tap, "explicit", second_arm_length_mm=second_length, second_arm_height_mm=second_h))
+        spec, _, layout = _dual(position, kind, direction, rotation, length, tap, second_length)
     except InfeasibleSpecError:
         assume(False)
     cv = drawing(layout, spec.name, drawing_subtitle(spec), check(layout, spec.fab), second_arm_kind=kind)
