@@ -119,14 +119,17 @@ def crossings(placed: Sequence[Placed], k: float) -> int:
 
 
 def pack_lanes(dims: Sequence[Dim], k: float, limit: tuple[float, float], *, search_order: bool = False) -> list[Placed]:
-    """Lanes for ``dims`` (:func:`pack_in_order`).  ``search_order``: try every order of up to
-    MAX_ORDER_SEARCH dimensions and keep the first with the fewest extension lines across
-    labels, then the fewest lanes (the given order wins ties)."""
-    if not search_order or len(dims) > MAX_ORDER_SEARCH:
+    """Lanes for ``dims`` (:func:`pack_in_order`).  ``search_order``: keep extension lines off
+    labels (``avoid_crossings``) and try every order of up to MAX_ORDER_SEARCH dimensions,
+    keeping the first with the fewest extension lines across labels, then the fewest lanes (the
+    given order wins ties).  Without it, the given order and first free lanes."""
+    if not search_order:
         return pack_in_order(dims, k, limit)
+    if len(dims) > MAX_ORDER_SEARCH:
+        return pack_in_order(dims, k, limit, avoid_crossings=True)
     best: tuple[tuple[int, int], list[Placed]] | None = None
     for order in itertools.permutations(dims):
-        placed = pack_in_order(order, k, limit)
+        placed = pack_in_order(order, k, limit, avoid_crossings=True)
         key = (crossings(placed, k), 1 + max((p.lane for p in placed), default=-1))
         if best is None or key < best[0]:
             best = (key, placed)
@@ -134,11 +137,11 @@ def pack_lanes(dims: Sequence[Dim], k: float, limit: tuple[float, float], *, sea
     return best[1]
 
 
-def pack_in_order(dims: Sequence[Dim], k: float, limit: tuple[float, float]) -> list[Placed]:
+def pack_in_order(dims: Sequence[Dim], k: float, limit: tuple[float, float], *, avoid_crossings: bool = False) -> list[Placed]:
     """Greedy lane assignment in the given order: each dimension takes the first lane where its
-    span (label included) keeps LANE_GAP_PX from every other span and where no extension line
-    crosses a label (its own across the labels of nearer lanes, those of farther lanes across
-    its label); when no lane is free of crossings, the first lane free of span overlaps."""
+    span (label included) keeps LANE_GAP_PX from every other span; ``avoid_crossings``: the
+    first such lane where no extension line crosses a label either (its own across the labels
+    of nearer lanes, those of farther lanes across its label), if there is one."""
     lanes: list[list[tuple[float, float]]] = []
     out: list[Placed] = []
     for dim in dims:
@@ -147,8 +150,8 @@ def pack_in_order(dims: Sequence[Dim], k: float, limit: tuple[float, float]) -> 
         p = _place_dim(dim, k, limit, avoid)
         a, b = p.span
         free = [n for n, lane in enumerate(lanes + [[]]) if all(b + LANE_GAP_PX <= c or d + LANE_GAP_PX <= a for c, d in lane)]
-        clear = [n for n in free
-                 if not any(_crossed(label_span(q), _extension_at(p, k)) for q in out if q.lane < n)
+        clear = [n for n in free if avoid_crossings
+                 and not any(_crossed(label_span(q), _extension_at(p, k)) for q in out if q.lane < n)
                  and not any(_crossed(label_span(p), _extension_at(q, k)) for q in out if q.lane > n)]
         n = (clear or free)[0]
         if n == len(lanes):

@@ -148,7 +148,7 @@ def dimensions(plane: Plane, layout: Layout) -> tuple[list[Dim], list[Note]]:
         notes.append(Note(arm[-1], f"arm {d['arm_length_mm']:.2f} along the centreline, {int(d['meander_turns'])} turns"))
     else:
         dims.append(Dim("x", (arm[0][0], top), (arm[-1][0], top), f"arm {d['arm_length_mm']:.2f}", "top"))
-    if plane.second_arm:  # inside the main arm's dimension: its extension lines cross no other dimension
+    if plane.second_arm:  # after the feed tap and inset (pack_lanes then searches the order)
         dims[2:2] = second_arm_dims(plane, d)
     dims.append(Dim("x", (cx0, cy1), (cx1, cy1), f"clearance area width {d['clearance_width_mm']:.2f}", "top"))
     dims.append(Dim("y", (near_x, 0.0), (xs - m * ws / 2, h), f"height {h:.2f}", near))
@@ -165,7 +165,7 @@ def dimensions(plane: Plane, layout: Layout) -> tuple[list[Dim], list[Note]]:
     flats = [(a, b) for a, b in zip(arm, arm[1:]) if abs(a[1] - b[1]) < GRID_SLACK_MM and abs(a[0] - b[0]) > w]
     a, b = max(flats, key=lambda seg: max(m * seg[0][0], m * seg[1][0]))
     tx = max(a[0], b[0]) - w / 2 if m > 0 else min(a[0], b[0]) + w / 2
-    if plane.second_arm:  # before the trace's: nearest the copper, their extension lines cross no label
+    if plane.second_arm:  # before the trace's (pack_lanes then searches the order)
         dims += second_arm_heights(plane, d, far)
     dims.append(Dim("y", (tx, a[1] - w / 2), (tx, a[1] + w / 2), f"trace {w:.2f}", far))
     if plane.second_arm and d.get("second_arm_meander_legs"):
