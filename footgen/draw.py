@@ -255,7 +255,7 @@ def drawing(layout: Layout, title: str, subtitle: str, violations: Sequence = ()
     for _ in range(4):  # lane widths depend on the scale and the scale on the lane widths
         room = width - 2 * MARGIN_PX - sum(side_w.values()) - 2 * LANE_GAP_PX
         k = min(room / gw, MAX_VIEW_HEIGHT_PX / gh)
-        placed = {side: pack_lanes(ds, k, (k * vx0 - side_w["left"], k * vx1 + side_w["right"]), search_order=bool(plane.second_arm))
+        placed = {side: pack_lanes(ds, k, (k * vx0 - side_w["left"], k * vx1 + side_w["right"]), search_order=True)
                   for side, ds in sides.items()}
         side_w = {s: sum(lane_widths(placed[s])) for s in ("left", "right")}
     view_w, view_h = k * gw, k * gh

@@ -67,8 +67,7 @@ def test_no_two_labels_overlap_and_none_leaves_the_canvas(spec_path: Path) -> No
     result = built(spec_path)
     cv = drawing(result.layout, result.spec.name, result.spec.target.label, result.violations)
     assert_labels_clear(cv)
-    if result.spec.second_arm is not None:  # single-band drawings keep their bytes (and their crossings)
-        assert_lines_clear_of_labels(cv)
+    assert_lines_clear_of_labels(cv)
 
 
 @pytest.mark.parametrize("spec_path", SPECS, ids=[f"{p.parent.name}/{p.stem}" for p in SPECS])
