@@ -45,7 +45,6 @@ from footgen.physics.ifa import Cover, Laminate, PrintedIfa
 from footgen.physics.quasistatic2d import (
     Layer,
     strip_beside_ground_edge_board_capacitance_f_per_m,
-    strip_beside_ground_edge_covered_capacitance_f_per_m,
 )
 
 #: Arguments are rounded to this (m) before the memoised solve: the layout snaps copper to 1 nm,
@@ -87,13 +86,8 @@ def _equivalent_eps_r(width_m: float, gap_m: float, eps_r: float, thickness_m: f
 
 def _solve_equivalent_eps_r(width_m: float, gap_m: float, eps_r: float, thickness_m: float, board_gap_m: float) -> float:
     cap = strip_beside_ground_edge_board_capacitance_f_per_m
-    c_air = cap(width_m, gap_m, 1.0, thickness_m, None)
-    target = cap(width_m, gap_m, eps_r, thickness_m, board_gap_m) / c_air - 1.0
-    eps = eps_r
-    for _ in range(EQUIVALENT_EPS_STEPS):
-        # capacitance ~ linear in (eps - 1): scale (eps - 1) by the ratio still missing
-        eps = 1.0 + (eps - 1.0) * target / (cap(width_m, gap_m, eps, thickness_m, None) / c_air - 1.0)
-    return eps
+    target = cap(width_m, gap_m, eps_r, thickness_m, board_gap_m) / cap(width_m, gap_m, 1.0, thickness_m, None) - 1.0
+    return _infinite_slab_eps_r(width_m, gap_m, thickness_m, target, eps_r)
 
 
 def equivalent_eps_r_strip_at_board_edge(
@@ -225,6 +219,7 @@ def _infinite_slab_eps_r(width_m: float, gap_m: float, thickness_m: float, targe
     c_air = cap(width_m, gap_m, 1.0, thickness_m, None)
     eps = start
     for _ in range(EQUIVALENT_EPS_STEPS):
+        # capacitance ~ linear in (eps - 1): scale (eps - 1) by the ratio still missing
         eps = 1.0 + (eps - 1.0) * target / (cap(width_m, gap_m, eps, thickness_m, None) / c_air - 1.0)
     return eps
 
@@ -232,7 +227,6 @@ def _infinite_slab_eps_r(width_m: float, gap_m: float, thickness_m: float, targe
 def _solve_covered(width_m: float, gap_m: float, eps_r: float, thickness_m: float, board_gap_m: float | None,
                    cover_eps_r: float, cover_distance_m: float, cover_thickness_m: float) -> tuple[float, float]:
     cap = strip_beside_ground_edge_board_capacitance_f_per_m
-    covered = strip_beside_ground_edge_covered_capacitance_f_per_m
     c_air = cap(width_m, gap_m, 1.0, thickness_m, None)
     target_bare = cap(width_m, gap_m, eps_r, thickness_m, board_gap_m) / c_air - 1.0
     eps_bare = (eps_r if board_gap_m is None
@@ -241,10 +235,10 @@ def _solve_covered(width_m: float, gap_m: float, eps_r: float, thickness_m: floa
         return eps_bare, 1.0
     wall = Layer(cover_eps_r, cover_distance_m, cover_thickness_m)
     air_wall = Layer(1.0, cover_distance_m, cover_thickness_m)
-    c_lam_wall = covered(width_m, gap_m, eps_r, thickness_m, board_gap_m, wall)
-    c_lam_air = covered(width_m, gap_m, eps_r, thickness_m, board_gap_m, air_wall)
-    c_wall = covered(width_m, gap_m, 1.0, thickness_m, board_gap_m, wall)
-    c_none = covered(width_m, gap_m, 1.0, thickness_m, board_gap_m, air_wall)
+    c_lam_wall = cap(width_m, gap_m, eps_r, thickness_m, board_gap_m, wall)
+    c_lam_air = cap(width_m, gap_m, eps_r, thickness_m, board_gap_m, air_wall)
+    c_wall = cap(width_m, gap_m, 1.0, thickness_m, board_gap_m, wall)
+    c_none = cap(width_m, gap_m, 1.0, thickness_m, board_gap_m, air_wall)
     target = (1.0 + target_bare) * c_lam_wall / c_lam_air - 1.0
     eps = _infinite_slab_eps_r(width_m, gap_m, thickness_m, target, eps_bare)
     if eps_r == 1.0:

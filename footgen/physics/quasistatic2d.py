@@ -260,29 +260,13 @@ def strip_beside_ground_edge_capacitance_f_per_m(
 
 @functools.lru_cache(maxsize=CACHE_SIZE)
 def strip_beside_ground_edge_board_capacitance_f_per_m(
-    width_m: float, gap_m: float, eps_r: float, thickness_m: float, board_gap_m: float | None
-) -> float:
-    """Capacitance (F/m) of the strip ``[g, g + w]`` beside a ground half-plane ``x <= 0`` on a
-    slab that ends ``board_gap_m`` beyond the strip's far edge (``None``: laterally infinite)."""
-    edge = None if board_gap_m is None else gap_m + width_m + board_gap_m
-    return capacitance_coplanar_f_per_m(
-        (0.0, gap_m, gap_m + width_m),
-        ((-math.inf, 0.0, 0.0), (gap_m, gap_m + width_m, 1.0)),
-        eps_r,
-        thickness_m,
-        edge,
-    )
-
-
-@functools.lru_cache(maxsize=CACHE_SIZE)
-def strip_beside_ground_edge_covered_capacitance_f_per_m(
     width_m: float, gap_m: float, eps_r: float, thickness_m: float, board_gap_m: float | None,
-    cover: Layer,
+    cover: Layer | None = None,
 ) -> float:
     """Capacitance (F/m) of the strip ``[g, g + w]`` beside a ground half-plane ``x <= 0`` on a
-    slab (``eps_r`` 1: no slab's dielectric) with the dielectric layer ``cover`` above the
-    copper; slab and cover end ``board_gap_m`` beyond the strip's far edge (``None``: laterally
-    infinite)."""
+    slab that ends ``board_gap_m`` beyond the strip's far edge (``None``: laterally infinite),
+    with the dielectric layer ``cover`` above the copper if given (slab and cover end together;
+    ``eps_r`` 1: no slab's dielectric)."""
     edge = None if board_gap_m is None else gap_m + width_m + board_gap_m
     return capacitance_coplanar_f_per_m(
         (0.0, gap_m, gap_m + width_m),
