@@ -13,7 +13,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from footgen.numfmt import fixed, s11_db
+from footgen.numfmt import fixed, impedance_ohm, s11_db
 from footgen.physics.predict import bandwidth_10db, s11_from_zin
 from footgen.spec import Spec, Target
 
@@ -66,7 +66,7 @@ class BandFigures:
         out = [
             f"{head} resonance (min |S11|) {self.resonance_hz / 1e6:.2f} MHz ({fixed(100 * (self.resonance_hz / f0 - 1), 2, sign=True)} % from the centre)"
             + (" at the window edge: the resonance lies beyond" if self.at_window_edge else ""),
-            f"  min S11 {s11_db(self.min_s11_db)}, Zin there {fixed(z.real, 1)} {'-' if round(z.imag, 1) < 0 else '+'} j{fixed(abs(z.imag), 1)} ohm",
+            f"  min S11 {s11_db(self.min_s11_db)}, Zin there {impedance_ohm(z)}",
         ]
         band = self.band_10db_hz
         if band is None:
@@ -137,5 +137,5 @@ def band_table(spec: Spec, freq_hz: np.ndarray, zin_ohm: np.ndarray, label: str)
         z = b.zin_at_resonance_ohm
         band = "none" if b.band_10db_hz is None else f"{b.band_10db_hz[0] / 1e6:.1f} .. {b.band_10db_hz[1] / 1e6:.1f} MHz"
         lines.append(f"| | {b.target.label} | {b.resonance_hz / 1e6:.2f} MHz | {b.min_s11_db:.1f} dB | "
-                     f"{fixed(z.real, 1)} {'-' if round(z.imag, 1) < 0 else '+'} j{fixed(abs(z.imag), 1)} ohm | {band} | {fixed(100 * b.coverage, 1)} % |")
+                     f"{impedance_ohm(z)} | {band} | {fixed(100 * b.coverage, 1)} % |")
     return lines + [""]

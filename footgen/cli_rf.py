@@ -140,6 +140,7 @@ def match_cmd(spec: Path | None, measured: Path | None, f0_mhz: float | None, ba
     """
     import numpy as np
 
+    from footgen.numfmt import impedance_ohm
     from footgen.rf import match_plan
 
     band = None
@@ -180,7 +181,7 @@ def match_cmd(spec: Path | None, measured: Path | None, f0_mhz: float | None, ba
         band = (max(band[0], freq[0]), min(band[1], freq[-1]))
     plan = match_plan.plan_match(freq, z, f0, band_hz=band, series=series, package=package)
     z0 = plan.z_at_f0_ohm
-    click.echo(f"{what} Zin at {f0 / 1e6:.3f} MHz: {z0.real:.2f} {'+' if z0.imag >= 0 else '-'} j{abs(z0.imag):.2f} ohm")
+    click.echo(f"{what} Zin at {f0 / 1e6:.3f} MHz: {impedance_ohm(z0, 2)}")
     for i, c in enumerate(plan.candidates):
         mark = "*" if i == plan.chosen else " "
         click.echo(f"{mark} {c.describe()}: |S11| {c.s11_db_at_f0:.1f} dB at f0, worst {c.worst_s11_db_in_band:.1f} dB in band, "

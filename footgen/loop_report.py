@@ -24,6 +24,7 @@ from footgen.rf import match_plan, matching, touchstone
 from footgen.rf.parts import DEFAULT_PACKAGE
 from footgen.rf.touchstone import Measurement
 from footgen.errors import MeasurementError
+from footgen.numfmt import impedance_ohm
 from footgen.rules import Violation, check
 from footgen.spec import Spec
 
@@ -325,7 +326,7 @@ def _places(parts: tuple[matching.Part, ...]) -> tuple[tuple[str, str], ...]:
 
 
 def _z(z: complex) -> str:
-    return f"{z.real:.1f} {'+' if z.imag >= 0 else '-'} j{abs(z.imag):.1f} ohm"
+    return impedance_ohm(z)
 
 
 def report_files(spec: Spec, measurement: Measurement | None = None, *, previous: Spec | None = None,

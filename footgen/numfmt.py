@@ -19,3 +19,8 @@ def fixed(value: float, decimals: int, *, sign: bool = False) -> str:
 def s11_db(value: float) -> str:
     """|S11| in dB to 0.1 dB, or "below -40 dB" for a deeper match."""
     return f"below {S11_FLOOR_DB:.0f} dB" if value < S11_FLOOR_DB else f"{fixed(value, 1)} dB"
+
+
+def impedance_ohm(z: complex, decimals: int = 1) -> str:
+    """``R +/- jX ohm`` with ``decimals`` decimals on each part (no negative zero)."""
+    return f"{fixed(z.real, decimals)} {'-' if round(z.imag, decimals) < 0 else '+'} j{fixed(abs(z.imag), decimals)} ohm"

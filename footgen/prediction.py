@@ -22,7 +22,7 @@ from footgen.build import SAFETY_NOTE
 from footgen.calibration import Calibration, of_spec
 from footgen.geometry.layout import Sizing, generate_copper
 from footgen.model import printed_ifa
-from footgen.numfmt import fixed, s11_db
+from footgen.numfmt import fixed, impedance_ohm, s11_db
 from footgen.physics.ifa import PrintedIfa
 from footgen.physics.predict import bandwidth_10db, s11_from_zin
 from footgen.sizing import DEFAULT_MODEL, MODELS, PREDICTION_HALF_SPAN, SEARCH_MESH
@@ -242,7 +242,7 @@ class Prediction:
             self.calibration_line(),
             f"resonance (min |S11|): {res.freq_hz / 1e6:.2f} MHz (target {f0 / 1e6:.2f} MHz, {fixed(100 * (res.freq_hz / f0 - 1), 2, sign=True)} %)"
             + (" at the sweep edge: the resonance lies beyond" if res.at_edge else ""),
-            f"Zin at {f0 / 1e6:.2f} MHz: {fixed(z0.real, 1)} {'-' if round(z0.imag, 1) < 0 else '+'} j{fixed(abs(z0.imag), 1)} ohm",
+            f"Zin at {f0 / 1e6:.2f} MHz: {impedance_ohm(z0)}",
             f"min S11: {s11_db(self.min_s11_db)}",
         ]
         band = self.band_10db_hz
