@@ -87,6 +87,22 @@ def truncate_path(points: list[Point], length_mm: float) -> tuple[Point, ...]:
     raise ValueError("path shorter than requested length")
 
 
+def meander_centreline(x0_mm: float, height_mm: float, start_x_mm: float, depth_mm: float, pitch_mm: float,
+                       legs: int, *, run_after_last: bool) -> list[Point]:
+    """Centreline from ``(x0_mm, height_mm)`` along the top to ``start_x_mm``, then ``legs`` legs
+    of ``depth_mm`` alternately down and up, ``pitch_mm`` apart, joined by runs of one pitch (and
+    one after the last leg if ``run_after_last``)."""
+    points: list[Point] = [(x0_mm, height_mm), (start_x_mm, height_mm)]
+    y = height_mm
+    for k in range(legs):
+        x = start_x_mm + k * pitch_mm
+        y = height_mm - depth_mm if y == height_mm else height_mm
+        points.append((x, y))
+        if run_after_last or k < legs - 1:
+            points.append((x + pitch_mm, y))
+    return points
+
+
 def leg_traces(
     *, height_mm: float, feed_short_spacing_mm: float, trace_width_mm: float, short_width_mm: float, feed_root_mm: float, short_root_mm: float
 ) -> tuple[Trace, Trace]:
@@ -193,13 +209,7 @@ def meandered_ifa(
         raise InfeasibleSpecError(
             "arm_length_mm", arm_length_mm, f"needs a meander pitch of {pitch:.3f} mm, below the minimum {min_pitch_mm:.3f}; at most {most:.2f} mm fits"
         )
-    points: list[Point] = [(-s, h), (start_x, h)]
-    y = h
-    for k in range(turns):
-        x = start_x + k * pitch
-        y = h - depth if y == h else h
-        points.append((x, y))
-        points.append((x + pitch, y))
+    points = meander_centreline(-s, h, start_x, depth, pitch, turns, run_after_last=True)
     arm_path = truncate_path(points, arm_length_mm)
     if arm_path[-1][0] > x_max_mm + LENGTH_EPS_MM:
         raise InfeasibleSpecError(
@@ -253,14 +263,8 @@ def _counted_meander(
     shortest = counted_meander_min_length_mm(lead_mm=start_x + s, depth_mm=depth, pitch_mm=pitch, legs=legs)
     if arm_length_mm < shortest - LENGTH_EPS_MM:
         raise InfeasibleSpecError("arm_length_mm", round(arm_length_mm, 4), f"too short for {legs} meander legs of {depth:.3f} mm: at least {shortest:.3f}")
-    points: list[Point] = [(-s, h), (start_x, h)]
-    y = h
-    for k in range(legs):
-        x = start_x + k * pitch
-        y = h - depth if y == h else h
-        points.append((x, y))
-        if k < legs - 1:
-            points.append((x + pitch, y))
+    points = meander_centreline(-s, h, start_x, depth, pitch, legs, run_after_last=False)
+    y = points[-1][1]
     tail = arm_length_mm - shortest
     if tail > LENGTH_EPS_MM:
         points.append((points[-1][0] + tail, y))
